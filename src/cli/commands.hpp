@@ -1,0 +1,33 @@
+#pragma once
+// Wiring shared by the subcommands. Each subcommand lives in its own file: an options
+// struct, a setup_* that declares its options on CLI11, and a run that calls the core and
+// returns a Report for output.cpp. main.cpp only lists the subcommands.
+#include <functional>
+#include <memory>
+#include <string>
+
+#include <CLI/CLI.hpp>
+
+#include "output.hpp"
+
+namespace holdfast::cli {
+
+struct CommonOptions {
+    std::string format = "table";
+    std::string output; // empty: standard output
+};
+
+struct Command {
+    CLI::App* app = nullptr;
+    std::shared_ptr<CommonOptions> common;
+    std::function<Report()> run;
+};
+
+// --format and --output, the same on every subcommand.
+std::shared_ptr<CommonOptions> add_common_options(CLI::App& sub);
+Format parse_format(const std::string& text);
+
+// One per subcommand file.
+// (subcommand setup functions are declared here as they land)
+
+} // namespace holdfast::cli

@@ -1,0 +1,154 @@
+#pragma once
+// Dust grains around a star: the ratio beta of radiation pressure to gravity versus grain
+// radius, the blow-out radii for a parent body's orbit, the orbit a released grain takes,
+// the Poynting-Robertson drag time, the equilibrium temperature and the sublimation distance.
+//
+// The efficiencies enter only through callables, so the physics here does not care whether
+// <Q_pr> comes from Mie theory averaged over a spectrum or is a constant for comparison:
+//   MeanEfficiency  radius_um      -> <Q_pr> (spectrum-weighted radiation-pressure efficiency)
+//   PlanckMean      temperature_K  -> Planck-weighted mean absorption efficiency
+// Everywhere "radius" is the grain's radius, never its diameter.
+#include <functional>
+#include <optional>
+#include <span>
+#include <vector>
+
+#include "holdfast/units.hpp"
+
+namespace holdfast {
+
+// <Q_pr> of a grain of radius `radius_um` (micrometres), averaged over the stellar spectrum.
+using MeanEfficiency = std::function<double(double radius_um)>;
+
+// ---- beta ------------------------------------------------------------------------------------
+// beta = F_rad / F_grav = 3 L <Q_pr> / (16 pi G M c rho s) for a compact sphere of radius s
+// and bulk density rho (Burns, Lamy & Soter 1979, eq. 19). Independent of distance.
+double beta(Power luminosity, Mass star_mass, MassDensity density, Length radius,
+            double qpr_mean);
+
+// beta as a function of grain radius for one star and one grain material.
+class BetaModel {
+  public:
+    // Throws InputError unless luminosity, mass and density are positive and finite.
+    BetaModel(Power luminosity, Mass star_mass, MassDensity density, MeanEfficiency qpr_mean);
+
+    // <Q_pr>(s); throws NumericalError if the efficiency is not finite or negative.
+    double qpr_mean_at_um(double radius_um) const;
+    // beta from an already computed <Q_pr> (saves a second spectral average).
+    double beta_from_qpr(double qpr_mean, double radius_um) const;
+    double beta_at_um(double radius_um) const;
+    double beta(Length radius) const { return beta_at_um(in_micrometres(radius)); }
+
+  private:
+    double coefficient_kg_m2_; // 3 L / (16 pi G M c)
+    double density_kg_m3_;
+    MeanEfficiency qpr_mean_;
+};
+
+// ---- where the grain leaves its parent ---------------------------------------------------
+// A parent body on a Kepler orbit of eccentricity e, releasing grains at true anomaly f
+// (0 at pericentre, pi at apocentre) and at distance r from the star.
+struct ReleasePoint {
+    double eccentricity = 0.0;     // parent's orbit, in [0, 1)
+    double true_anomaly_rad = 0.0; // any real number; only cos f and sin f matter
+};
+
+// Throws InputError unless 0 <= e < 1 and f is finite.
+void check_release_point(const ReleasePoint& release);
+
+// The smallest beta for which a grain released at `release` is unbound:
+// beta_crit = (1 - e^2) / (2 (1 + e cos f)); 1/2 for a circular parent. See grain.cpp.
+double critical_beta(const ReleasePoint& release);
+
+// The Kepler orbit of a grain released with its parent's position and velocity, moving
+// under the reduced attraction (1 - beta) G M. Bound orbits give a, e, pericentre and
+// apocentre; unbound ones give the speed left at infinity (a grain with beta >= 1 feels a
+// net push outwards and always escapes).
+struct ReleasedOrbit {
+    bool bound = false;
+    std::optional<Length> semi_major_axis; // bound only
+    std::optional<double> eccentricity;    // bound only
+    std::optional<Length> pericentre;      // bound only
+    std::optional<Length> apocentre;       // bound only
+    std::optional<Velocity> speed_at_infinity; // unbound only
+};
+
+// `distance` is the star-parent distance at release; throws InputError for a non-positive
+// distance, a bad release point or a non-finite beta.
+ReleasedOrbit released_orbit(Mass star_mass, double beta, const ReleasePoint& release,
+                             Length distance);
+
+// ---- Poynting-Robertson drag ----------------------------------------------------------------
+// Time for a grain on a circular orbit of radius r to spiral into the star:
+// t = c r^2 / (4 G M beta) (Wyatt & Whipple 1950; Burns, Lamy & Soter 1979, eq. 50).
+// Throws InputError unless beta > 0.
+Time poynting_robertson_time(Mass star_mass, Length distance, double beta);
+
+// ---- blow-out search ------------------------------------------------------------------------
+struct BlowoutSearchSettings {
+    // Brent root search and minimisation stop when the bracket is this small in ln(radius),
+    // that is a relative tolerance in radius.
+    double radius_relative_tolerance = 1e-6;
+    int max_iterations = 200;
+};
+
+struct BlowoutSearch {
+    double beta_crit = 0.0;
+    // Every radius (micrometres, ascending) where beta(s) - beta_crit changes sign between
+    // neighbouring scan radii, refined by Brent's method.
+    std::vector<double> blowout_radii_um;
+    double beta_max = 0.0;
+    double radius_at_beta_max_um = 0.0;
+    // True when the largest beta sits at an end of the scanned range: the peak may then lie
+    // outside it (for a constant <Q_pr> beta grows without bound as s -> 0).
+    bool peak_at_range_edge = false;
+};
+
+// Scans beta at `scan_radii_um` (ascending, at least 2; the values `scan_beta` must already
+// be computed there), brackets every sign change of beta - beta_crit and refines it with
+// GSL's Brent root solver in ln(s); refines an interior maximum with GSL's Brent minimiser.
+// Two crossings closer together than the scan spacing can be missed: use a fine grid.
+// Throws InputError for a bad grid, NumericalError if GSL fails.
+BlowoutSearch search_beta_curve(const std::function<double(double radius_um)>& beta_at_um,
+                                std::span<const double> scan_radii_um,
+                                std::span<const double> scan_beta, double beta_crit,
+                                const BlowoutSearchSettings& settings = {});
+
+// ---- temperature ---------------------------------------------------------------------------
+// Planck mean of the absorption efficiency at a grain temperature:
+// <Q_abs>_T = int Q_abs B_lambda(T) dlambda / int B_lambda(T) dlambda.
+using PlanckMean = std::function<double(double temperature_K)>;
+
+struct TemperatureSettings {
+    double relative_tolerance = 1e-9; // on T, for the Brent root search in ln T
+    int max_iterations = 200;
+    double lowest_K = 1.0;            // the search refuses temperatures outside this range
+    double highest_K = 1.0e5;
+};
+
+// Fraction of the far-field flux L / (4 pi r^2) that a sphere at distance r from a
+// uniformly bright star of radius R receives: 2 (r/R)^2 (1 - sqrt(1 - (R/r)^2)). It is 1 far
+// from the star and 2 on its surface. Throws InputError unless r >= R > 0.
+double finite_disc_factor(Length distance, Length star_radius);
+
+// Equilibrium temperature from absorbed = emitted power:
+//   <Q_abs>_* pi s^2 (L / 4 pi r^2) D = 4 pi s^2 <Q_abs>_T sigma T^4,
+// where <Q_abs>_* is the spectrum-weighted absorption efficiency of the grain in the
+// starlight, <Q_abs>_T its Planck mean at its own temperature T and D the finite-disc
+// factor. Solved for T by GSL's Brent root search in ln T. Throws InputError for bad
+// arguments, NumericalError if no temperature in the search range balances.
+Temperature equilibrium_temperature(Power luminosity, Length star_radius, Length distance,
+                                    double qabs_star_mean, const PlanckMean& qabs_planck_mean,
+                                    const TemperatureSettings& settings = {});
+
+// Distance at which the equilibrium temperature equals `sublimation_temperature`, the
+// energy balance above solved for r in closed form. With K = 16 pi sigma T^4 <Q_abs>_T /
+// (L <Q_abs>_*) and a = K R^2 / 2: r = R / sqrt(a (2 - a)), which is 1 / sqrt(K) far from the
+// star. Empty when a > 1: the grain stays cooler than T even on the stellar surface.
+// Throws InputError for bad arguments.
+std::optional<Length> sublimation_distance(Power luminosity, Length star_radius,
+                                           double qabs_star_mean,
+                                           Temperature sublimation_temperature,
+                                           double qabs_planck_mean_at_sublimation);
+
+} // namespace holdfast

@@ -1,0 +1,363 @@
+// Grains: beta, critical beta, released orbits, drag time, blow-out search, temperature.
+// Every expected value names its source; constant efficiencies make the analytic checks exact.
+#include <catch2/catch.hpp>
+
+#include <cmath>
+#include <numbers>
+#include <stdexcept>
+
+#include <gsl/gsl_errno.h>
+
+#include "holdfast/constants.hpp"
+#include "holdfast/errors.hpp"
+#include "holdfast/grain.hpp"
+#include "holdfast/parse.hpp"
+
+using namespace holdfast;
+using std::numbers::pi;
+
+namespace {
+// As in main.cpp: GSL reports failures by status, which the core turns into exceptions.
+const auto gsl_handler = gsl_set_error_handler_off();
+
+const Power sun_luminosity = watts(constants::solar_luminosity_W);
+const Mass sun_mass = kilograms(constants::solar_mass_kg);
+const Length sun_radius = metres(constants::solar_radius_m);
+constexpr double gm_sun = constants::solar_gm_m3_s2;
+
+double rel(double a, double b) { return std::abs(a - b) / std::abs(b); }
+} // namespace
+
+TEST_CASE("beta of a perfect absorber around the Sun", "[grain][beta]") {
+    // Burns, Lamy & Soter (1979, Icarus 40, 1), eq. 19 and the text after it: for the Sun
+    // beta = 5.7e-5 Q_pr / (rho s) with rho in g/cm3 and s in cm. With IAU 2015 and CODATA
+    // 2018 values the coefficient is 5.74e-5; tolerance 1% because they give two digits.
+    const double b = beta(sun_luminosity, sun_mass, g_per_cm3(1.0), centimetres(1.0), 1.0);
+    REQUIRE(std::isfinite(b));
+    CHECK(rel(b, 5.7e-5) < 0.01);
+    // The coefficient again from its definition 3 L / (16 pi G M c) in g/cm2: an analytic
+    // identity, tolerance rounding.
+    const double coefficient_cgs =
+        3.0 * constants::solar_luminosity_W / (16.0 * pi * gm_sun * constants::speed_of_light_m_s) *
+        0.1;
+    CHECK(rel(b, coefficient_cgs) < 1e-12);
+    CHECK(rel(coefficient_cgs, 5.742e-5) < 1e-3); // our constants, 4 digits shown in README
+
+    // beta scales as Q_pr / (rho s) (Burns et al. 1979 eq. 19): exact up to rounding.
+    const double b2 = beta(sun_luminosity, sun_mass, g_per_cm3(3.0), micrometres(0.5), 0.7);
+    CHECK(rel(b2, 5.742e-5 * 0.7 / (3.0 * 0.5e-4)) < 1e-3);
+
+    // BetaModel gives the same numbers as the free function.
+    const BetaModel model(sun_luminosity, sun_mass, g_per_cm3(3.0), [](double) { return 0.7; });
+    CHECK(rel(model.beta(micrometres(0.5)), b2) < 1e-14);
+    CHECK(rel(model.beta_at_um(0.5), b2) < 1e-14);
+    CHECK(model.qpr_mean_at_um(0.5) == 0.7);
+}
+
+TEST_CASE("beta refuses nonsense", "[grain][beta]") {
+    CHECK_THROWS_AS(beta(sun_luminosity, sun_mass, g_per_cm3(0.0), micrometres(1), 1.0),
+                    InputError);
+    CHECK_THROWS_AS(beta(sun_luminosity, sun_mass, g_per_cm3(1.0), micrometres(-1), 1.0),
+                    InputError);
+    CHECK_THROWS_AS(beta(sun_luminosity, sun_mass, g_per_cm3(1.0), micrometres(1), std::nan("")),
+                    InputError);
+    const BetaModel broken(sun_luminosity, sun_mass, g_per_cm3(1.0),
+                           [](double) { return std::nan(""); });
+    CHECK_THROWS_AS(broken.beta_at_um(1.0), NumericalError);
+    CHECK_THROWS_AS(BetaModel(watts(-1.0), sun_mass, g_per_cm3(1.0), [](double) { return 1.0; }),
+                    InputError);
+}
+
+TEST_CASE("critical beta for release from a Kepler orbit", "[grain][orbit]") {
+    // Analytic: beta_crit = (1 - e^2) / (2 (1 + e cos f)) (derived from the orbital energy in
+    // grain.cpp; e.g. Burns et al. 1979 sec. VI for the circular case 1/2). Exact arithmetic,
+    // tolerance rounding.
+    CHECK(critical_beta({0.0, 0.0}) == 0.5);
+    CHECK(critical_beta({0.0, 1.234}) == 0.5);
+    const double e = 0.3;
+    CHECK(rel(critical_beta({e, 0.0}), (1.0 - e) / 2.0) < 1e-15);
+    CHECK(rel(critical_beta({e, pi}), (1.0 + e) / 2.0) < 1e-15);
+    CHECK(rel(critical_beta({e, pi / 2}), (1.0 - e * e) / 2.0) < 1e-15);
+    CHECK_THROWS_AS(critical_beta({1.0, 0.0}), InputError);
+    CHECK_THROWS_AS(critical_beta({-0.1, 0.0}), InputError);
+    CHECK_THROWS_AS(critical_beta({0.2, std::nan("")}), InputError);
+
+    // Independent check from the energy (vis-viva, Murray & Dermott 1999 eq. 2.34): a grain
+    // released with beta just below beta_crit is bound, just above it is not.
+    const double f = 2.1;
+    const double r = 2.0 * constants::au_m;
+    const double a_parent = r * (1.0 + e * std::cos(f)) / (1.0 - e * e);
+    const double v2 = gm_sun * (2.0 / r - 1.0 / a_parent);
+    const double bc = critical_beta({e, f});
+    auto energy = [&](double b) { return 0.5 * v2 - (1.0 - b) * gm_sun / r; };
+    // At beta_crit the energy vanishes; 1e-14 of GM/r is rounding.
+    CHECK(std::abs(energy(bc)) < 1e-14 * gm_sun / r);
+    CHECK(energy(bc * (1 - 1e-9)) < 0.0);
+    CHECK(energy(bc * (1 + 1e-9)) > 0.0);
+    CHECK(released_orbit(sun_mass, bc * (1 - 1e-9), {e, f}, metres(r)).bound);
+    CHECK_FALSE(released_orbit(sun_mass, bc * (1 + 1e-9), {e, f}, metres(r)).bound);
+    CHECK_FALSE(released_orbit(sun_mass, bc, {e, f}, metres(r)).bound); // beta >= beta_crit
+}
+
+TEST_CASE("orbit of a grain released from a circular parent", "[grain][orbit]") {
+    // Analytic (vis-viva with (1 - beta) G M, release point is the new pericentre):
+    // a' = a (1 - beta) / (1 - 2 beta), e' = beta / (1 - beta), q' = a (e.g. Burns et al.
+    // 1979, sec. VI). Tolerance rounding.
+    const auto beta_value = GENERATE(0.0, 0.01, 0.1, 0.3, 0.45);
+    const double a = 5.0 * constants::au_m;
+    const ReleasedOrbit o = released_orbit(sun_mass, beta_value, {}, metres(a));
+    REQUIRE(o.bound);
+    REQUIRE(o.semi_major_axis);
+    REQUIRE(o.eccentricity);
+    REQUIRE(o.pericentre);
+    REQUIRE(o.apocentre);
+    CHECK_FALSE(o.speed_at_infinity);
+    CHECK(rel(o.semi_major_axis->value(), a * (1 - beta_value) / (1 - 2 * beta_value)) < 1e-13);
+    CHECK(std::abs(*o.eccentricity - beta_value / (1 - beta_value)) < 1e-12);
+    CHECK(rel(o.pericentre->value(), a) < 1e-13);
+    CHECK(rel(o.apocentre->value(),
+              o.semi_major_axis->value() * (1.0 + beta_value / (1 - beta_value))) < 1e-12);
+}
+
+TEST_CASE("orbit of a grain released from an eccentric parent: vector check", "[grain][orbit]") {
+    // Independent computation in Cartesian coordinates: the parent's state from Kepler's
+    // orbit (Murray & Dermott 1999 eqs. 2.20, 2.31-2.32), then the grain's energy, angular
+    // momentum and eccentricity vector under (1 - beta) G M (eqs. 2.134-2.135, 2.4).
+    // Tolerance 1e-11 relative: rounding in two different formula paths.
+    const auto [e, f, beta_value] = GENERATE(table<double, double, double>(
+        {{0.3, 1.0, 0.2}, {0.6, 0.0, 0.1}, {0.6, pi, 0.7}, {0.9, 2.5, 0.02}, {0.1, -2.0, 0.0}}));
+    const double r = 3.0 * constants::au_m;
+    const double p = r * (1 + e * std::cos(f));
+    const double x = r * std::cos(f), y = r * std::sin(f);
+    const double vx = -std::sqrt(gm_sun / p) * std::sin(f);
+    const double vy = std::sqrt(gm_sun / p) * (e + std::cos(f));
+    const double mu = (1.0 - beta_value) * gm_sun;
+    const double energy = 0.5 * (vx * vx + vy * vy) - mu / r;
+    const double h = x * vy - y * vx;
+    // Eccentricity vector e = (v x h) / mu - r_hat.
+    const double ex = vy * h / mu - x / r, ey = -vx * h / mu - y / r;
+    const double ecc = std::hypot(ex, ey);
+
+    const ReleasedOrbit o = released_orbit(sun_mass, beta_value, {e, f}, metres(r));
+    REQUIRE(o.bound == (energy < 0));
+    REQUIRE(o.bound);
+    const double a = -mu / (2 * energy);
+    CHECK(rel(o.semi_major_axis->value(), a) < 1e-11);
+    CHECK(std::abs(*o.eccentricity - ecc) < 1e-11);
+    CHECK(rel(o.pericentre->value(), a * (1 - ecc)) < 1e-10);
+    CHECK(rel(o.apocentre->value(), a * (1 + ecc)) < 1e-11);
+    // The release point lies on the new orbit: q <= r <= Q (rounding allowance 1e-12).
+    CHECK(o.pericentre->value() <= r * (1 + 1e-12));
+    CHECK(o.apocentre->value() >= r * (1 - 1e-12));
+    if (beta_value == 0.0) { // no radiation: the parent's own orbit (identity)
+        CHECK(rel(o.semi_major_axis->value(), p / (1 - e * e)) < 1e-12);
+        CHECK(std::abs(*o.eccentricity - e) < 1e-12);
+    }
+}
+
+TEST_CASE("unbound grains leave with the speed the energy allows", "[grain][orbit]") {
+    // Analytic: v_inf^2 = 2 E = v^2 - 2 (1 - beta) G M / r (energy conservation).
+    const auto [e, f, beta_value] = GENERATE(table<double, double, double>(
+        {{0.0, 0.0, 0.5000001}, {0.0, 0.0, 0.9}, {0.0, 0.0, 1.0}, {0.0, 0.0, 3.0},
+         {0.5, 0.0, 0.3}, {0.5, pi, 0.8}}));
+    const double r = constants::au_m;
+    const double a_parent = r * (1 + e * std::cos(f)) / (1 - e * e);
+    const double v2 = gm_sun * (2 / r - 1 / a_parent);
+    const double v_inf = std::sqrt(v2 - 2 * (1 - beta_value) * gm_sun / r);
+    const ReleasedOrbit o = released_orbit(sun_mass, beta_value, {e, f}, metres(r));
+    REQUIRE_FALSE(o.bound);
+    REQUIRE(o.speed_at_infinity);
+    CHECK_FALSE(o.semi_major_axis);
+    // 1e-6 relative for the case just above beta_crit, where v_inf^2 is a small difference
+    // of large numbers in the test's own formula (cancellation ~1e-16 / 1e-7); else rounding.
+    CHECK(rel(o.speed_at_infinity->value(), v_inf) < 1e-6);
+    CHECK(std::isfinite(o.speed_at_infinity->value()));
+    // beta = 1 from a circular orbit: gravity is cancelled, the grain keeps its orbital speed
+    // sqrt(G M / r) (analytic).
+    if (e == 0.0 && beta_value == 1.0)
+        CHECK(rel(o.speed_at_infinity->value(), std::sqrt(gm_sun / r)) < 1e-14);
+}
+
+TEST_CASE("Poynting-Robertson time", "[grain][drag]") {
+    // Burns, Lamy & Soter (1979) eq. 50 (after Wyatt & Whipple 1950): t = 400 (r/au)^2 / beta
+    // yr for the Sun. We get 400.5; tolerance 1% because their coefficient is rounded to 400.
+    const Time t1 = poynting_robertson_time(sun_mass, astronomical_units(1.0), 1.0);
+    REQUIRE(std::isfinite(t1.value()));
+    CHECK(rel(in_julian_years(t1), 400.0) < 0.01);
+    // Scaling with r^2 / (beta M): analytic, tolerance rounding.
+    const Time t2 = poynting_robertson_time(solar_masses(2.0), astronomical_units(3.0), 0.1);
+    CHECK(rel(t2.value(), t1.value() * 9.0 / 0.2) < 1e-12);
+    CHECK_THROWS_AS(poynting_robertson_time(sun_mass, astronomical_units(1.0), 0.0), InputError);
+    CHECK_THROWS_AS(poynting_robertson_time(sun_mass, metres(-1.0), 0.1), InputError);
+}
+
+namespace {
+struct Scan {
+    std::vector<double> radii_um, beta;
+};
+Scan scan(const std::function<double(double)>& f, double lo, double hi, int n) {
+    Scan s;
+    s.radii_um = log_spaced(lo, hi, n);
+    for (double r : s.radii_um) s.beta.push_back(f(r));
+    return s;
+}
+} // namespace
+
+TEST_CASE("blow-out radius for a constant efficiency", "[grain][blowout]") {
+    // Analytic: with <Q_pr> = 1, beta = C / (rho s), so beta = beta_crit at s = C/(rho beta_crit).
+    const BetaModel model(sun_luminosity, sun_mass, g_per_cm3(2.5), [](double) { return 1.0; });
+    const std::function<double(double)> f = [&](double s) { return model.beta_at_um(s); };
+    const auto e = GENERATE(0.0, 0.5);
+    const double bc = critical_beta({e, 0.0});
+    const double expected_um = model.beta_at_um(1.0) / bc; // beta proportional to 1/s
+    const Scan s = scan(f, 0.01, 1000.0, 200);
+    const BlowoutSearch b = search_beta_curve(f, s.radii_um, s.beta, bc);
+    REQUIRE(b.blowout_radii_um.size() == 1);
+    // The search's tolerance is 1e-6 in radius; allow 2e-6.
+    CHECK(rel(b.blowout_radii_um[0], expected_um) < 2e-6);
+    // The largest beta is at the smallest radius, at the edge of the range (analytic).
+    CHECK(b.peak_at_range_edge);
+    CHECK(b.radius_at_beta_max_um == 0.01);
+    CHECK(rel(b.beta_max, model.beta_at_um(0.01)) < 1e-14);
+    CHECK(b.beta_crit == bc);
+}
+
+TEST_CASE("blow-out search on a peaked curve", "[grain][blowout]") {
+    // A curve with a known peak: beta = 4 t / (1 + t^2), t = s / s0, maximum 2 at t = 1; it
+    // crosses 1/2 where t^2 - 8 t + 1 = 0, t = 4 -+ sqrt(15) (analytic).
+    const double s0 = 0.2;
+    const std::function<double(double)> f = [&](double s) {
+        const double t = s / s0;
+        return 4 * t / (1 + t * t);
+    };
+    const auto points = GENERATE(20, 200, 1000);
+    const Scan s = scan(f, 1e-3, 100.0, points);
+    const BlowoutSearch b = search_beta_curve(f, s.radii_um, s.beta, 0.5);
+    REQUIRE(b.blowout_radii_um.size() == 2);
+    // Tolerance: the search's 1e-6 relative in radius, allowance 2e-6.
+    CHECK(rel(b.blowout_radii_um[0], s0 * (4 - std::sqrt(15.0))) < 2e-6);
+    CHECK(rel(b.blowout_radii_um[1], s0 * (4 + std::sqrt(15.0))) < 2e-6);
+    CHECK_FALSE(b.peak_at_range_edge);
+    // At a smooth maximum beta is flat to second order: beta_max to 1e-10, its radius to 1e-5
+    // (Brent stops at 1e-6 in ln s; the flat top makes the position the weaker number).
+    CHECK(rel(b.beta_max, 2.0) < 1e-10);
+    CHECK(rel(b.radius_at_beta_max_um, s0) < 1e-5);
+
+    // No crossing when the critical value is above the peak (cool stars): an empty answer.
+    const BlowoutSearch none = search_beta_curve(f, s.radii_um, s.beta, 2.5);
+    CHECK(none.blowout_radii_um.empty());
+    CHECK(rel(none.beta_max, 2.0) < 1e-10);
+}
+
+TEST_CASE("blow-out search edge cases", "[grain][blowout]") {
+    const std::function<double(double)> f = [](double s) { return 1.0 / s; };
+    // A crossing exactly on a scan radius is reported once (analytic: 1/s = 0.5 at s = 2).
+    const std::vector<double> radii{0.5, 1.0, 2.0, 4.0};
+    const std::vector<double> betas{2.0, 1.0, 0.5, 0.25};
+    const BlowoutSearch b = search_beta_curve(f, radii, betas, 0.5);
+    REQUIRE(b.blowout_radii_um.size() == 1);
+    CHECK(b.blowout_radii_um[0] == 2.0);
+    // Bad grids are refused.
+    const std::vector<double> one{1.0};
+    CHECK_THROWS_AS(search_beta_curve(f, one, one, 0.5), InputError);
+    const std::vector<double> down{2.0, 1.0};
+    const std::vector<double> bd{0.5, 1.0};
+    CHECK_THROWS_AS(search_beta_curve(f, down, bd, 0.5), InputError);
+    const std::vector<double> nanbeta{2.0, std::nan("")};
+    CHECK_THROWS_AS(search_beta_curve(f, std::vector<double>{1.0, 2.0}, nanbeta, 0.5),
+                    NumericalError);
+    // An exception inside the refinement crosses GSL's C code safely and reaches the caller.
+    const std::function<double(double)> throws = [](double) -> double {
+        throw NumericalError("quadrature failed (test)");
+    };
+    CHECK_THROWS_AS(search_beta_curve(throws, radii, betas, 0.7), NumericalError);
+}
+
+TEST_CASE("blackbody grain temperature", "[grain][temperature]") {
+    const PlanckMean one = [](double) { return 1.0; };
+    // Analytic: a blackbody (Q_abs = 1) far from the star has T = T_eff sqrt(R / (2 r)).
+    // The IAU 2015 nominal L, R and T_eff obey L = 4 pi R^2 sigma T^4 only to 3e-5, i.e.
+    // 8e-6 in T; the finite-disc correction is (R/r)^2 / 16 = 1.4e-6 at 1 au: tolerance 2e-5.
+    for (double r_au : {0.3, 1.0, 10.0, 100.0}) {
+        const Temperature t = equilibrium_temperature(sun_luminosity, sun_radius,
+                                                      astronomical_units(r_au), 1.0, one);
+        REQUIRE(std::isfinite(t.value()));
+        const double expected =
+            constants::solar_teff_K * std::sqrt(constants::solar_radius_m / (2 * r_au * constants::au_m));
+        CHECK(rel(t.value(), expected) < 2e-5);
+    }
+    // About 278 K at 1 au for the Sun (from memory, standard textbook value); 0.5 K.
+    const Temperature t1 =
+        equilibrium_temperature(sun_luminosity, sun_radius, astronomical_units(1.0), 1.0, one);
+    CHECK(std::abs(t1.value() - 278.0) < 0.5);
+    // A grey grain (any constant Q_abs) has the blackbody temperature (analytic: Q cancels).
+    const PlanckMean grey = [](double) { return 0.3; };
+    CHECK(rel(equilibrium_temperature(sun_luminosity, sun_radius, astronomical_units(1.0), 0.3,
+                                      grey)
+                  .value(),
+              t1.value()) < 1e-8);
+    // On the stellar surface the grain sees half its sky at T_eff: T = T_eff / 2^(1/4)
+    // (analytic, uniform disc). Stefan-Boltzmann luminosity so that no IAU rounding enters.
+    const double l_sb = 4 * pi * std::pow(constants::solar_radius_m, 2) *
+                        constants::stefan_boltzmann_SI * std::pow(constants::solar_teff_K, 4);
+    const Temperature ts = equilibrium_temperature(watts(l_sb), sun_radius, sun_radius, 1.0, one);
+    CHECK(rel(ts.value(), constants::solar_teff_K / std::pow(2.0, 0.25)) < 1e-8);
+    CHECK(finite_disc_factor(sun_radius, sun_radius) == 2.0);
+    // Far away the factor is 1 + u/4 + u^2/8 + O(u^3), u = (R/r)^2 (series of the exact form;
+    // the u^3 term is 1e-16 at 1 au, so the tolerance is rounding).
+    const double d = finite_disc_factor(astronomical_units(1.0), sun_radius);
+    const double u = std::pow(constants::solar_radius_m / constants::au_m, 2);
+    CHECK(std::abs(d - (1 + u / 4 + u * u / 8)) < 1e-15);
+    CHECK_THROWS_AS(finite_disc_factor(metres(1.0), sun_radius), InputError);
+}
+
+TEST_CASE("temperature of a grain whose emission efficiency depends on T", "[grain][temperature]") {
+    // Small grains emit inefficiently: with <Q_abs>_T = T / T0 the balance T^4 (T/T0) = A gives
+    // T = (A T0)^(1/5) (analytic). Tolerance 1e-8: the solver stops at 1e-9 in ln T.
+    const double t0 = 1.0e4;
+    const PlanckMean q = [&](double t) { return t / t0; };
+    const double r = 2.0 * constants::au_m;
+    const double qstar = 0.8;
+    const double big_a = constants::solar_luminosity_W * qstar *
+                         finite_disc_factor(metres(r), sun_radius) /
+                         (16 * pi * constants::stefan_boltzmann_SI * r * r);
+    const Temperature t = equilibrium_temperature(sun_luminosity, sun_radius, metres(r), qstar, q);
+    CHECK(rel(t.value(), std::pow(big_a * t0, 0.2)) < 1e-8);
+    // Such grains are hotter than a blackbody at the same place (their emission is weaker).
+    const Temperature tbb = equilibrium_temperature(sun_luminosity, sun_radius, metres(r), 1.0,
+                                                    [](double) { return 1.0; });
+    CHECK(t.value() > tbb.value());
+    // No balance inside the search range: a clear NumericalError, not a wrong number.
+    TemperatureSettings narrow;
+    narrow.highest_K = 10.0;
+    CHECK_THROWS_AS(
+        equilibrium_temperature(sun_luminosity, sun_radius, metres(r), qstar, q, narrow),
+        NumericalError);
+    CHECK_THROWS_AS(
+        equilibrium_temperature(sun_luminosity, sun_radius, metres(r), 0.0, q), InputError);
+}
+
+TEST_CASE("sublimation distance", "[grain][temperature]") {
+    const PlanckMean one = [](double) { return 1.0; };
+    // Analytic (far field): a blackbody reaches T at r = (R / 2) (T_eff / T)^2.
+    const double l_sb = 4 * pi * std::pow(constants::solar_radius_m, 2) *
+                        constants::stefan_boltzmann_SI * std::pow(constants::solar_teff_K, 4);
+    const auto r = sublimation_distance(watts(l_sb), sun_radius, 1.0, kelvin(1500.0), 1.0);
+    REQUIRE(r);
+    const double expected = 0.5 * constants::solar_radius_m * std::pow(constants::solar_teff_K / 1500.0, 2);
+    // The exact finite-disc answer differs from the far-field one by about (R/r)^2 / 8 = 2e-3
+    // here (r = 7.4 R): tolerance 3e-3.
+    CHECK(rel(r->value(), expected) < 3e-3);
+    // Round trip: the temperature at the sublimation distance is the sublimation temperature.
+    const Temperature back = equilibrium_temperature(watts(l_sb), sun_radius, *r, 1.0, one);
+    CHECK(rel(back.value(), 1500.0) < 1e-8);
+    // A non-grey grain: round trip again (T-dependent Planck mean).
+    const PlanckMean q = [](double t) { return t / 3000.0; };
+    const auto r2 = sublimation_distance(sun_luminosity, sun_radius, 0.5, kelvin(1200.0), q(1200.0));
+    REQUIRE(r2);
+    CHECK(rel(equilibrium_temperature(sun_luminosity, sun_radius, *r2, 0.5, q).value(), 1200.0) <
+          1e-8);
+    // A blackbody never gets hotter than T_eff / 2^(1/4) outside the star: no answer then.
+    CHECK_FALSE(sublimation_distance(watts(l_sb), sun_radius, 1.0, kelvin(5000.0), 1.0));
+    CHECK(sublimation_distance(watts(l_sb), sun_radius, 1.0, kelvin(4800.0), 1.0));
+}

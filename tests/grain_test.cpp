@@ -25,7 +25,9 @@ const Mass sun_mass = kilograms(constants::solar_mass_kg);
 const Length sun_radius = metres(constants::solar_radius_m);
 constexpr double gm_sun = constants::solar_gm_m3_s2;
 
-double rel(double a, double b) { return std::abs(a - b) / std::abs(b); }
+double rel(double a, double b) {
+    return std::abs(a - b) / std::abs(b);
+}
 } // namespace
 
 TEST_CASE("beta of a perfect absorber around the Sun", "[grain][beta]") {
@@ -37,9 +39,8 @@ TEST_CASE("beta of a perfect absorber around the Sun", "[grain][beta]") {
     CHECK(rel(b, 5.7e-5) < 0.01);
     // The coefficient again from its definition 3 L / (16 pi G M c) in g/cm2: an analytic
     // identity, tolerance rounding.
-    const double coefficient_cgs =
-        3.0 * constants::solar_luminosity_W / (16.0 * pi * gm_sun * constants::speed_of_light_m_s) *
-        0.1;
+    const double coefficient_cgs = 3.0 * constants::solar_luminosity_W /
+                                   (16.0 * pi * gm_sun * constants::speed_of_light_m_s) * 0.1;
     CHECK(rel(b, coefficient_cgs) < 1e-12);
     CHECK(rel(coefficient_cgs, 5.742e-5) < 1e-3); // our constants, 4 digits shown in README
 
@@ -157,9 +158,12 @@ TEST_CASE("orbit of a grain released from an eccentric parent: vector check", "[
 
 TEST_CASE("unbound grains leave with the speed the energy allows", "[grain][orbit]") {
     // Analytic: v_inf^2 = 2 E = v^2 - 2 (1 - beta) G M / r (energy conservation).
-    const auto [e, f, beta_value] = GENERATE(table<double, double, double>(
-        {{0.0, 0.0, 0.5000001}, {0.0, 0.0, 0.9}, {0.0, 0.0, 1.0}, {0.0, 0.0, 3.0},
-         {0.5, 0.0, 0.3}, {0.5, pi, 0.8}}));
+    const auto [e, f, beta_value] = GENERATE(table<double, double, double>({{0.0, 0.0, 0.5000001},
+                                                                            {0.0, 0.0, 0.9},
+                                                                            {0.0, 0.0, 1.0},
+                                                                            {0.0, 0.0, 3.0},
+                                                                            {0.5, 0.0, 0.3},
+                                                                            {0.5, pi, 0.8}}));
     const double r = constants::au_m;
     const double a_parent = r * (1 + e * std::cos(f)) / (1 - e * e);
     const double v2 = gm_sun * (2 / r - 1 / a_parent);
@@ -198,7 +202,8 @@ struct Scan {
 Scan scan(const std::function<double(double)>& f, double lo, double hi, int n) {
     Scan s;
     s.radii_um = log_spaced(lo, hi, n);
-    for (double r : s.radii_um) s.beta.push_back(f(r));
+    for (double r : s.radii_um)
+        s.beta.push_back(f(r));
     return s;
 }
 } // namespace
@@ -279,11 +284,11 @@ TEST_CASE("blackbody grain temperature", "[grain][temperature]") {
     // The IAU 2015 nominal L, R and T_eff obey L = 4 pi R^2 sigma T^4 only to 3e-5, i.e.
     // 8e-6 in T; the finite-disc correction is (R/r)^2 / 16 = 1.4e-6 at 1 au: tolerance 2e-5.
     for (double r_au : {0.3, 1.0, 10.0, 100.0}) {
-        const Temperature t = equilibrium_temperature(sun_luminosity, sun_radius,
-                                                      astronomical_units(r_au), 1.0, one);
+        const Temperature t =
+            equilibrium_temperature(sun_luminosity, sun_radius, astronomical_units(r_au), 1.0, one);
         REQUIRE(std::isfinite(t.value()));
-        const double expected =
-            constants::solar_teff_K * std::sqrt(constants::solar_radius_m / (2 * r_au * constants::au_m));
+        const double expected = constants::solar_teff_K *
+                                std::sqrt(constants::solar_radius_m / (2 * r_au * constants::au_m));
         CHECK(rel(t.value(), expected) < 2e-5);
     }
     // About 278 K at 1 au for the Sun (from memory, standard textbook value); 0.5 K.
@@ -292,10 +297,10 @@ TEST_CASE("blackbody grain temperature", "[grain][temperature]") {
     CHECK(std::abs(t1.value() - 278.0) < 0.5);
     // A grey grain (any constant Q_abs) has the blackbody temperature (analytic: Q cancels).
     const PlanckMean grey = [](double) { return 0.3; };
-    CHECK(rel(equilibrium_temperature(sun_luminosity, sun_radius, astronomical_units(1.0), 0.3,
-                                      grey)
-                  .value(),
-              t1.value()) < 1e-8);
+    CHECK(
+        rel(equilibrium_temperature(sun_luminosity, sun_radius, astronomical_units(1.0), 0.3, grey)
+                .value(),
+            t1.value()) < 1e-8);
     // On the stellar surface the grain sees half its sky at T_eff: T = T_eff / 2^(1/4)
     // (analytic, uniform disc). Stefan-Boltzmann luminosity so that no IAU rounding enters.
     const double l_sb = 4 * pi * std::pow(constants::solar_radius_m, 2) *
@@ -333,8 +338,8 @@ TEST_CASE("temperature of a grain whose emission efficiency depends on T", "[gra
     CHECK_THROWS_AS(
         equilibrium_temperature(sun_luminosity, sun_radius, metres(r), qstar, q, narrow),
         NumericalError);
-    CHECK_THROWS_AS(
-        equilibrium_temperature(sun_luminosity, sun_radius, metres(r), 0.0, q), InputError);
+    CHECK_THROWS_AS(equilibrium_temperature(sun_luminosity, sun_radius, metres(r), 0.0, q),
+                    InputError);
 }
 
 TEST_CASE("sublimation distance", "[grain][temperature]") {
@@ -344,7 +349,8 @@ TEST_CASE("sublimation distance", "[grain][temperature]") {
                         constants::stefan_boltzmann_SI * std::pow(constants::solar_teff_K, 4);
     const auto r = sublimation_distance(watts(l_sb), sun_radius, 1.0, kelvin(1500.0), 1.0);
     REQUIRE(r);
-    const double expected = 0.5 * constants::solar_radius_m * std::pow(constants::solar_teff_K / 1500.0, 2);
+    const double expected =
+        0.5 * constants::solar_radius_m * std::pow(constants::solar_teff_K / 1500.0, 2);
     // The exact finite-disc answer differs from the far-field one by about (R/r)^2 / 8 = 2e-3
     // here (r = 7.4 R): tolerance 3e-3.
     CHECK(rel(r->value(), expected) < 3e-3);
@@ -353,7 +359,8 @@ TEST_CASE("sublimation distance", "[grain][temperature]") {
     CHECK(rel(back.value(), 1500.0) < 1e-8);
     // A non-grey grain: round trip again (T-dependent Planck mean).
     const PlanckMean q = [](double t) { return t / 3000.0; };
-    const auto r2 = sublimation_distance(sun_luminosity, sun_radius, 0.5, kelvin(1200.0), q(1200.0));
+    const auto r2 =
+        sublimation_distance(sun_luminosity, sun_radius, 0.5, kelvin(1200.0), q(1200.0));
     REQUIRE(r2);
     CHECK(rel(equilibrium_temperature(sun_luminosity, sun_radius, *r2, 0.5, q).value(), 1200.0) <
           1e-8);

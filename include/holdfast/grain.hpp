@@ -23,8 +23,7 @@ using MeanEfficiency = std::function<double(double radius_um)>;
 // ---- beta ------------------------------------------------------------------------------------
 // beta = F_rad / F_grav = 3 L <Q_pr> / (16 pi G M c rho s) for a compact sphere of radius s
 // and bulk density rho (Burns, Lamy & Soter 1979, eq. 19). Independent of distance.
-double beta(Power luminosity, Mass star_mass, MassDensity density, Length radius,
-            double qpr_mean);
+double beta(Power luminosity, Mass star_mass, MassDensity density, Length radius, double qpr_mean);
 
 // beta as a function of grain radius for one star and one grain material.
 class BetaModel {
@@ -66,10 +65,10 @@ double critical_beta(const ReleasePoint& release);
 // net push outwards and always escapes).
 struct ReleasedOrbit {
     bool bound = false;
-    std::optional<Length> semi_major_axis; // bound only
-    std::optional<double> eccentricity;    // bound only
-    std::optional<Length> pericentre;      // bound only
-    std::optional<Length> apocentre;       // bound only
+    std::optional<Length> semi_major_axis;     // bound only
+    std::optional<double> eccentricity;        // bound only
+    std::optional<Length> pericentre;          // bound only
+    std::optional<Length> apocentre;           // bound only
     std::optional<Velocity> speed_at_infinity; // unbound only
 };
 
@@ -122,7 +121,7 @@ using PlanckMean = std::function<double(double temperature_K)>;
 struct TemperatureSettings {
     double relative_tolerance = 1e-9; // on T, for the Brent root search in ln T
     int max_iterations = 200;
-    double lowest_K = 1.0;            // the search refuses temperatures outside this range
+    double lowest_K = 1.0; // the search refuses temperatures outside this range
     double highest_K = 1.0e5;
 };
 

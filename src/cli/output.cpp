@@ -18,11 +18,25 @@ namespace {
 void check_finite(const Cell& c, const std::string& key) {
     if (const double* d = std::get_if<double>(&c); d && !std::isfinite(*d))
         throw InternalError("result '" + key + "' is not a finite number; refusing to print it");
+    if (const auto* v = std::get_if<std::vector<double>>(&c))
+        for (double d : *v)
+            if (!std::isfinite(d))
+                throw InternalError("result '" + key +
+                                    "' holds a number that is not finite; refusing to print it");
+}
+
+std::string join(const std::vector<double>& v, const char* sep, std::string (*fmt)(double)) {
+    std::string out;
+    for (std::size_t i = 0; i < v.size(); ++i) out += (i ? sep : "") + fmt(v[i]);
+    return out;
 }
 
 std::string table_cell(const Cell& c) {
     if (const double* d = std::get_if<double>(&c)) return format_table_number(*d);
     if (const bool* b = std::get_if<bool>(&c)) return *b ? "yes" : "no";
+    if (std::holds_alternative<std::monostate>(c)) return "-";
+    if (const auto* v = std::get_if<std::vector<double>>(&c))
+        return v->empty() ? "none" : join(*v, ", ", format_table_number);
     return std::get<std::string>(c);
 }
 
@@ -39,12 +53,17 @@ std::string csv_escape(const std::string& s) {
 std::string csv_cell(const Cell& c) {
     if (const double* d = std::get_if<double>(&c)) return format_machine_number(*d);
     if (const bool* b = std::get_if<bool>(&c)) return *b ? "true" : "false";
+    if (std::holds_alternative<std::monostate>(c)) return "";
+    if (const auto* v = std::get_if<std::vector<double>>(&c))
+        return join(*v, ";", format_machine_number);
     return csv_escape(std::get<std::string>(c));
 }
 
 nlohmann::json json_cell(const Cell& c) {
     if (const double* d = std::get_if<double>(&c)) return *d;
     if (const bool* b = std::get_if<bool>(&c)) return *b;
+    if (std::holds_alternative<std::monostate>(c)) return nullptr;
+    if (const auto* v = std::get_if<std::vector<double>>(&c)) return *v;
     return std::get<std::string>(c);
 }
 

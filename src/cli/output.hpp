@@ -9,7 +9,10 @@
 
 namespace holdfast::cli {
 
-using Cell = std::variant<double, std::string, bool>;
+// std::monostate: no value here (e.g. the apocentre of an unbound grain): "-" in tables,
+// empty in CSV, null in JSON. std::vector<double>: a list (e.g. several blow-out radii):
+// joined by ", " in tables and ";" in CSV, an array in JSON.
+using Cell = std::variant<double, std::string, bool, std::monostate, std::vector<double>>;
 
 // One value under one machine name, with the unit label the table shows.
 struct Repr {

@@ -49,8 +49,8 @@ void require_positive(double v, const char* what) {
 // caller rethrows the stored exception.
 struct LogCallback {
     const std::function<double(double)>* f = nullptr;
-    double shift = 0.0;  // returns f(exp(u)) - shift
-    double sign = 1.0;   // or -(f(exp(u))) for the minimiser
+    double shift = 0.0; // returns f(exp(u)) - shift
+    double sign = 1.0;  // or -(f(exp(u))) for the minimiser
     std::exception_ptr error;
 
     static double call(double u, void* self) {
@@ -86,8 +86,8 @@ double brent_root(LogCallback& cb, double lo, double hi, double tolerance, int m
     int status = gsl_root_fsolver_set(solver.s, &fn, lo, hi);
     cb.rethrow_if_failed();
     if (status != GSL_SUCCESS)
-        throw NumericalError(what + ": GSL Brent root solver could not start: " +
-                             gsl_strerror(status));
+        throw NumericalError(what +
+                             ": GSL Brent root solver could not start: " + gsl_strerror(status));
     for (int i = 0; i < max_iterations; ++i) {
         status = gsl_root_fsolver_iterate(solver.s);
         cb.rethrow_if_failed();
@@ -106,8 +106,7 @@ double brent_root(LogCallback& cb, double lo, double hi, double tolerance, int m
 
 // ---- beta ------------------------------------------------------------------------------------
 
-double beta(Power luminosity, Mass star_mass, MassDensity density, Length radius,
-            double qpr_mean) {
+double beta(Power luminosity, Mass star_mass, MassDensity density, Length radius, double qpr_mean) {
     require_positive(luminosity.value(), "the luminosity");
     require_positive(star_mass.value(), "the stellar mass");
     require_positive(density.value(), "the grain density");
@@ -120,15 +119,13 @@ double beta(Power luminosity, Mass star_mass, MassDensity density, Length radius
            (16.0 * pi * G_SI * star_mass.value() * c_m_s * density.value() * radius.value());
 }
 
-BetaModel::BetaModel(Power luminosity, Mass star_mass, MassDensity density,
-                     MeanEfficiency qpr_mean)
+BetaModel::BetaModel(Power luminosity, Mass star_mass, MassDensity density, MeanEfficiency qpr_mean)
     : coefficient_kg_m2_(0.0), density_kg_m3_(density.value()), qpr_mean_(std::move(qpr_mean)) {
     require_positive(luminosity.value(), "the luminosity");
     require_positive(star_mass.value(), "the stellar mass");
     require_positive(density.value(), "the grain density");
     if (!qpr_mean_) throw InternalError("BetaModel needs an efficiency function");
-    coefficient_kg_m2_ =
-        3.0 * luminosity.value() / (16.0 * pi * G_SI * star_mass.value() * c_m_s);
+    coefficient_kg_m2_ = 3.0 * luminosity.value() / (16.0 * pi * G_SI * star_mass.value() * c_m_s);
 }
 
 double BetaModel::qpr_mean_at_um(double radius_um) const {
@@ -286,9 +283,9 @@ BlowoutSearch search_beta_curve(const std::function<double(double radius_um)>& b
     gsl_function fn{&LogCallback::call, &neg};
     const double lo = std::log(scan_radii_um[k - 1]);
     const double hi = std::log(scan_radii_um[k + 1]);
-    int status = gsl_min_fminimizer_set_with_values(m, &fn, std::log(scan_radii_um[k]),
-                                                    -scan_beta[k], lo, -scan_beta[k - 1], hi,
-                                                    -scan_beta[k + 1]);
+    int status =
+        gsl_min_fminimizer_set_with_values(m, &fn, std::log(scan_radii_um[k]), -scan_beta[k], lo,
+                                           -scan_beta[k - 1], hi, -scan_beta[k + 1]);
     // A flat top (equal neighbours) does not bracket strictly: keep the grid maximum then.
     if (status == GSL_EINVAL) return out;
     if (status != GSL_SUCCESS)
@@ -379,10 +376,10 @@ Temperature equilibrium_temperature(Power luminosity, Length star_radius, Length
         if (g1 == 0.0) return kelvin(std::exp(u1));
         if ((g0 < 0.0) != (g1 < 0.0)) break;
     }
-    const double u = brent_root(cb, std::min(u0, u1), std::max(u0, u1),
-                                settings.relative_tolerance, settings.max_iterations,
-                                "grain temperature at " + num(in_astronomical_units(distance)) +
-                                    " au");
+    const double u =
+        brent_root(cb, std::min(u0, u1), std::max(u0, u1), settings.relative_tolerance,
+                   settings.max_iterations,
+                   "grain temperature at " + num(in_astronomical_units(distance)) + " au");
     return kelvin(std::exp(u));
 }
 

@@ -98,9 +98,9 @@ TEST_CASE("Paczynski reduction of the electron-scattering opacity", "[eddington]
         // Identity: kappa = factor * kappa_es, so L_Edd is 4 times the Thomson value.
         CHECK(r.opacity.value() ==
               Approx(0.25 * electron_scattering_opacity(1.0).value()).epsilon(1e-13));
-        CHECK(r.eddington_luminosity.value() ==
-              Approx(4.0 * eddington_luminosity(in.mass, thomson_hydrogen()).value())
-                  .epsilon(1e-13));
+        CHECK(
+            r.eddington_luminosity.value() ==
+            Approx(4.0 * eddington_luminosity(in.mass, thomson_hydrogen()).value()).epsilon(1e-13));
     }
     CHECK_THROWS_AS(paczynski_opacity_factor(kelvin(0.0), g_per_cm3(1.0)), InputError);
     CHECK_THROWS_AS(paczynski_opacity_factor(kelvin(1e7), g_per_cm3(-1.0)), InputError);
@@ -228,8 +228,8 @@ TEST_CASE("accretion rate and growth", "[eddington]") {
     }
     SECTION("growth time is ln(Mf/M) e-folding times") {
         const Time te = efolding_time(thomson_hydrogen(), 0.1, 1.0);
-        const Time tg = growth_time(solar_masses(10.0), solar_masses(1e9), thomson_hydrogen(),
-                                    0.1, 1.0);
+        const Time tg =
+            growth_time(solar_masses(10.0), solar_masses(1e9), thomson_hydrogen(), 0.1, 1.0);
         CHECK(tg.value() == Approx(std::log(1e8) * te.value()).epsilon(1e-13));
         CHECK(growth_time(solar_masses(10.0), solar_masses(10.0), thomson_hydrogen(), 0.1, 1.0)
                   .value() == 0.0);
@@ -242,9 +242,9 @@ TEST_CASE("accretion rate and growth", "[eddington]") {
                    (eta * c2);
         };
         const double m0 = solar_masses(10.0).value();
-        const double t_end = growth_time(solar_masses(10.0), solar_masses(1e3),
-                                         thomson_hydrogen(), eta, 1.0)
-                                 .value();
+        const double t_end =
+            growth_time(solar_masses(10.0), solar_masses(1e3), thomson_hydrogen(), eta, 1.0)
+                .value();
         const int steps = 2000;
         const double h = t_end / steps;
         double m = m0;
@@ -267,9 +267,9 @@ TEST_CASE("accretion rate and growth", "[eddington]") {
         const auto r = eddington(in);
         CHECK(in_grams_per_second(r.eddington_accretion_rate) == Approx(1.40e18).epsilon(0.01));
     }
-    CHECK_THROWS_AS(growth_time(solar_masses(10.0), solar_masses(9.0), thomson_hydrogen(), 0.1,
-                                1.0),
-                    InputError);
+    CHECK_THROWS_AS(
+        growth_time(solar_masses(10.0), solar_masses(9.0), thomson_hydrogen(), 0.1, 1.0),
+        InputError);
     CHECK_THROWS_AS(efolding_time(thomson_hydrogen(), 0.0, 1.0), InputError);
     CHECK_THROWS_AS(efolding_time(thomson_hydrogen(), 1.0, 1.0), InputError);
     CHECK_THROWS_AS(efolding_time(thomson_hydrogen(), 0.1, 0.0), InputError);

@@ -115,7 +115,7 @@ inline constexpr double default_efficiency = 0.1;
 
 struct EddingtonResult {
     OpacitySource opacity_source = OpacitySource::electron_scattering;
-    MassOpacity opacity;                     // the one used
+    MassOpacity opacity;                        // the one used
     std::optional<MassOpacity> thomson_opacity; // kappa_es before the Paczynski reduction
     std::optional<double> opacity_factor;       // kappa / kappa_es from the Paczynski fit
     Power eddington_luminosity;

@@ -92,9 +92,9 @@ Mass eddington_minimum_mass(Power luminosity, MassOpacity opacity) {
     require_positive("luminosity", luminosity.value(), "W");
     require_positive("opacity", opacity.value(), "m2/kg");
     // L = 4 pi G M c / kappa solved for M.
-    return kilograms(checked("minimum mass", luminosity.value() * opacity.value() /
-                                                 (4.0 * pi * gravitational_constant_SI *
-                                                  speed_of_light_m_s)));
+    return kilograms(
+        checked("minimum mass", luminosity.value() * opacity.value() /
+                                    (4.0 * pi * gravitational_constant_SI * speed_of_light_m_s)));
 }
 
 Power luminosity_from_flux(EnergyFlux flux, Length distance, double beaming) {
@@ -113,8 +113,7 @@ double isco_radius(double spin) {
     //   Z2 = (3 a^2 + Z1^2)^(1/2)
     //   r_ms = 3 + Z2 -+ [(3 - Z1)(3 + Z1 + 2 Z2)]^(1/2), upper sign for prograde orbits.
     // With a signed spin (a < 0 retrograde) the sign in front of the root is sign(a).
-    const double z1 =
-        1.0 + std::cbrt(1.0 - a * a) * (std::cbrt(1.0 + a) + std::cbrt(1.0 - a));
+    const double z1 = 1.0 + std::cbrt(1.0 - a * a) * (std::cbrt(1.0 + a) + std::cbrt(1.0 - a));
     const double z2 = std::sqrt(3.0 * a * a + z1 * z1);
     // (3 - Z1) >= 0 for |a| <= 1; max() keeps rounding at a = 0 from giving sqrt(-tiny).
     const double root = std::sqrt(std::max(0.0, (3.0 - z1) * (3.0 + z1 + 2.0 * z2)));
@@ -152,9 +151,9 @@ MassRate accretion_rate(Power luminosity, double efficiency) {
     require_positive("luminosity", luminosity.value(), "W");
     require_efficiency(efficiency);
     // L = eta Mdot c^2.
-    return kg_per_second(checked("accretion rate",
-                                 luminosity.value() /
-                                     (efficiency * speed_of_light_m_s * speed_of_light_m_s)));
+    return kg_per_second(
+        checked("accretion rate",
+                luminosity.value() / (efficiency * speed_of_light_m_s * speed_of_light_m_s)));
 }
 
 Time efolding_time(MassOpacity opacity, double efficiency, double eddington_ratio) {
@@ -164,10 +163,9 @@ Time efolding_time(MassOpacity opacity, double efficiency, double eddington_rati
     // dM/dt = (1 - eta) Mdot with Mdot = lambda L_Edd / (eta c^2) = lambda 4 pi G M /
     // (kappa eta c), so M grows as exp(t / t_e) with
     // t_e = eta / (1 - eta) * kappa c / (4 pi G lambda) (Salpeter 1964 for kappa = sigma_T/m_p).
-    return seconds(checked("e-folding time", efficiency / (1.0 - efficiency) * opacity.value() *
-                                                 speed_of_light_m_s /
-                                                 (4.0 * pi * gravitational_constant_SI *
-                                                  eddington_ratio)));
+    return seconds(checked("e-folding time",
+                           efficiency / (1.0 - efficiency) * opacity.value() * speed_of_light_m_s /
+                               (4.0 * pi * gravitational_constant_SI * eddington_ratio)));
 }
 
 Time growth_time(Mass mass, Mass final_mass, MassOpacity opacity, double efficiency,

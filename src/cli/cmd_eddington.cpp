@@ -142,6 +142,9 @@ EddingtonInput read_input(const EddingtonOptions& o, const Given& g) {
     if (given(g.distance) && !given(g.flux))
         throw InputError("--distance: is used only with --flux. Accepted: --flux with "
                          "--distance, or neither");
+    if (given(g.beaming) && !given(g.flux))
+        throw InputError("--beaming: is used only with --flux (it turns a flux into a "
+                         "luminosity). Accepted: --beaming with --flux and --distance");
     if (given(g.luminosity))
         in.luminosity = parse_quantity<Power>(text_of(o.luminosity), "--luminosity");
     if (given(g.flux)) {

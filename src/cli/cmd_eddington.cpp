@@ -150,18 +150,25 @@ EddingtonInput read_input(const EddingtonOptions& o, const Given& g) {
     if (given(g.flux)) {
         in.flux = parse_quantity<EnergyFlux>(text_of(o.flux), "--flux");
         in.distance = parse_quantity<Length>(text_of(o.distance), "--distance");
+        in.beaming = number_in_range(text_of(o.beaming, "1"), "--beaming", "beaming fraction", 0.0,
+                                     true, 1.0, false);
+        try {
+            (void)luminosity_from_flux(*in.flux, *in.distance, in.beaming);
+        } catch (const InputError& e) {
+            throw InputError(std::string("--flux and --distance: ") + e.what());
+        }
     }
-    in.beaming = number_in_range(text_of(o.beaming, "1"), "--beaming", "beaming fraction", 0.0,
-                                 true, 1.0, false);
 
     std::vector<std::string> eff_options;
     for (const auto* opt : {g.efficiency, g.spin, g.star_radius})
         if (given(opt)) eff_options.push_back(opt->get_name());
-    if (eff_options.size() > 1)
-        throw InputError(fmt::format("{}: cannot be combined with {}: --efficiency, --spin and "
-                                     "--star-radius each set the efficiency. Accepted: at most "
-                                     "one of them",
-                                     eff_options[1], eff_options[0]));
+    if (eff_options.size() > 1) {
+        std::string list = eff_options[0];
+        for (std::size_t k = 1; k < eff_options.size(); ++k)
+            list += (k + 1 == eff_options.size() ? " and " : ", ") + eff_options[k];
+        throw InputError(list + ": cannot be combined: --efficiency, --spin and --star-radius "
+                                "each set the efficiency. Accepted: at most one of them");
+    }
     if (given(g.efficiency))
         in.efficiency = number_in_range(text_of(o.efficiency), "--efficiency", "efficiency", 0.0,
                                         true, 1.0, true);

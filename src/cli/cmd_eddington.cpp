@@ -348,8 +348,8 @@ Report build_report(const EddingtonOptions& o, const Given& g, const EddingtonIn
     }
     if (r.luminosity_from_flux)
         a.push_back("Luminosity from flux: L = 4 pi d^2 F b, with F the bolometric flux and b "
-                    "the fraction of the sphere the source shines into; no extinction or "
-                    "bandpass correction.");
+                    "the fraction of the sphere the source shines into, d the luminosity "
+                    "distance for a cosmological source; no extinction or bandpass correction.");
     std::string eff = "Efficiency eta: the fraction of the rest-mass inflow that is radiated, L "
                       "= eta Mdot c^2. ";
     if (!r.efficiency_source)

@@ -24,8 +24,8 @@ MassOpacity thomson_hydrogen() {
 }
 
 // Specific energy of a prograde (a > 0) or retrograde (a < 0) circular equatorial orbit at
-// radius r (units of GM/c^2) in the Kerr metric; Bardeen, Press & Teukolsky (1972), eq. 2.12,
-// written with a signed spin. Independent of the code under test.
+// radius r (units of GM/c^2) in the Kerr metric; Bardeen, Press & Teukolsky (1972), eq. 2.12
+// (equation number from memory), written with a signed spin. Independent of the code under test.
 double kerr_circular_orbit_energy(double r, double a) {
     const double sr = std::sqrt(r);
     return (r * sr - 2.0 * sr + a) / (std::pow(r, 0.75) * std::sqrt(r * sr - 3.0 * sr + 2.0 * a));
@@ -114,7 +114,7 @@ TEST_CASE("Eddington luminosity", "[eddington]") {
     // three digits, so 0.5% covers it (the exact value with CODATA 2018 and IAU 2015 is
     // 1.25707e38).
     CHECK(in_erg_per_second(l) == Approx(1.26e38).epsilon(0.005));
-    // 1.2571e38 erg/s: the same, to five digits, computed with astropy 5 constants
+    // 1.2571e38 erg/s: the same, to five digits, computed with astropy 5.2 constants
     // (sigma_T, m_p, G, M_sun, c); 1e-4 is the rounding of five digits.
     CHECK(in_erg_per_second(l) == Approx(1.2571e38).epsilon(1e-4));
     // Linear in M and in 1/kappa (identity).
@@ -155,15 +155,15 @@ TEST_CASE("ISCO radius and efficiency from spin", "[eddington]") {
     // Maximal retrograde: r = 9, eta = 1 - sqrt(25/27) = 0.0377 (BPT 1972; analytic).
     CHECK(isco_radius(-1.0) == Approx(9.0).epsilon(1e-14));
     CHECK(efficiency_from_spin(-1.0) == Approx(1.0 - std::sqrt(25.0 / 27.0)).epsilon(1e-13));
-    // Thorne (1974), ApJ 191, 507: spin-up limit a = 0.998 gives eta about 0.32 (two digits,
-    // so an absolute tolerance of 0.005).
+    // Thorne (1974), ApJ 191, 507 (from memory): the spin-up limit a = 0.998 gives a thin-disc
+    // eta of about 0.32 (two digits, so an absolute tolerance of 0.005).
     CHECK(efficiency_from_spin(0.998) == Approx(0.32).margin(0.005));
 
     SECTION("identities of the Kerr circular orbits across spins") {
         const double a = GENERATE(-1.0, -0.9, -0.5, -0.1, 0.0, 0.1, 0.5, 0.9, 0.99, 0.998);
         const double r = isco_radius(a);
         REQUIRE(std::isfinite(r));
-        // Between the extremes, monotonic in a (BPT 1972, fig. 1 trend).
+        // Between the extremes and decreasing with a (analytic property of eq. 2.21).
         CHECK(r >= 1.0 - 1e-12);
         CHECK(r <= 9.0 + 1e-12);
         if (a > -1.0) CHECK(isco_radius(a - 0.01) > r);

@@ -4,8 +4,10 @@
 //     Processes in Astrophysics (Thomson scattering; the Eddington limit); Frank, King &
 //     Raine (2002), Accretion Power in Astrophysics, 3rd ed., section 1.2. Section and
 //     equation references to these books are from memory.
-//   Klein-Nishina and degeneracy reduction: Paczynski (1983), ApJ 267, 315 (the fit to the
-//     electron-scattering opacity used in his X-ray burster models).
+//   Klein-Nishina and degeneracy reduction: Paczynski (1983), ApJ 267, 315, the fit to the
+//     electron-scattering opacity used in his X-ray burster models. The form and coefficients
+//     are from memory (they match the form widely quoted from that paper); the paper's
+//     equation number was not checked.
 //   ISCO and binding energy: Bardeen, Press & Teukolsky (1972), ApJ 178, 347, eq. 2.21.
 //   Spin-limited efficiency: Thorne (1974), ApJ 191, 507.
 //   Growth time: Salpeter (1964), ApJ 140, 796.

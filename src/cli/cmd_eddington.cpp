@@ -16,10 +16,6 @@
 namespace holdfast::cli {
 namespace {
 
-// Each option's value as typed: a quantity may come as one shell word ('10 Msun') or as
-// several (10 Msun); the words are joined with spaces before parsing.
-using Words = std::vector<std::string>;
-
 struct EddingtonOptions {
     Words mass;
     Words hydrogen;
@@ -36,22 +32,6 @@ struct EddingtonOptions {
     Words eddington_ratio;
     Words final_mass;
 };
-
-std::string text_of(const Words& words, const char* fallback = "") {
-    if (words.empty()) return fallback;
-    std::string t;
-    for (const auto& w : words)
-        t += (t.empty() ? "" : " ") + w;
-    return t;
-}
-
-// An option whose value is a number and optional unit words, up to the next option.
-CLI::Option* add_quantity_option(CLI::App* sub, const std::string& name, Words& target,
-                                 const std::string& help, const std::string& type_name) {
-    return sub->add_option(name, target, help)
-        ->expected(1, CLI::detail::expected_max_vector_size)
-        ->type_name(type_name);
-}
 
 struct Given {
     CLI::Option* hydrogen = nullptr;

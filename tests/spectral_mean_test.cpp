@@ -237,3 +237,40 @@ TEST_CASE("out-of-band plans: refuse, hold, limit the band", "[spectral][materia
         CHECK(plan.note.empty());
     }
 }
+
+TEST_CASE("a Q with kinks at every row of a dense table converges", "[spectral]") {
+    // Interpolated optical constants have a kink at every table row; QUADPACK's roundoff
+    // heuristic trips on such integrands, and the pieces are then split and retried.
+    gsl_set_error_handler_off();
+    NkTable t;
+    t.source = "zigzag";
+    for (int i = 0; i < 600; ++i) {
+        const double lam = 0.1 * std::pow(1200.0, i / 599.0);
+        t.rows.push_back({lam, 1.5 + 0.3 * std::sin(1.7 * i), 0.5 + 0.4 * std::sin(2.3 * i)});
+    }
+    const auto optics = tabulated_index(t);
+    const auto s = planck_spectrum(kelvin(5772.0));
+    const WavelengthBand band = integration_band(*s, 1e-6);
+    auto q = [&](double lam) { return optics->index_at_um(lam).imag(); };
+    SpectralMeanSettings normal, tight;
+    tight.relative_tolerance = 1e-9;
+    const auto a = spectral_mean_with_diagnostics(q, *s, band, normal);
+    const auto b = spectral_mean_with_diagnostics(q, *s, band, tight);
+    INFO(a.q_evaluations << " and " << b.q_evaluations << " evaluations");
+    REQUIRE(std::isfinite(a.mean));
+    REQUIRE(std::isfinite(b.mean));
+    // Convergence: the default result within its requested tolerance of the tight one.
+    CHECK(a.mean == Approx(b.mean).epsilon(1e-6));
+    CHECK(a.estimated_relative_error <= 1e-6);
+    CHECK(b.estimated_relative_error <= 1e-9);
+    // With the table's rows as breakpoints every piece is smooth: the same mean, and about
+    // 21 evaluations per row instead of hundreds.
+    SpectralMeanSettings with_rows;
+    with_rows.breakpoints_um = optics->breakpoints_um();
+    const auto c = spectral_mean_with_diagnostics(q, *s, band, with_rows);
+    INFO(c.q_evaluations << " evaluations with breakpoints");
+    REQUIRE(std::isfinite(c.mean));
+    CHECK(c.mean == Approx(b.mean).epsilon(1e-6));
+    CHECK(c.estimated_relative_error <= 1e-6);
+    CHECK(c.q_evaluations < 30 * 600);
+}

@@ -23,6 +23,11 @@ class OpticalConstants {
     virtual double max_wavelength_um() const { return std::numeric_limits<double>::infinity(); }
     // One line for people: what this is and where its numbers come from.
     virtual std::string describe() const = 0;
+    // Wavelengths (um, increasing) where the index has kinks, e.g. the rows of a table that
+    // is interpolated between them; empty for a smooth index. Pass them to the spectral mean
+    // (SpectralMeanSettings::breakpoints_um) so it integrates between kinks instead of
+    // bisecting onto each one. Wrappers and mixtures should pass on their components' points.
+    virtual std::vector<double> breakpoints_um() const { return {}; }
 };
 
 // The same index at every wavelength.

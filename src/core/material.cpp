@@ -26,6 +26,7 @@ class HeldEndValues final : public OpticalConstants {
     std::complex<double> index_at_um(double wavelength_um) const override {
         return inner_->index_at_um(std::clamp(wavelength_um, low_, high_));
     }
+    std::vector<double> breakpoints_um() const override { return inner_->breakpoints_um(); }
     std::string describe() const override {
         return inner_->describe() + ", held at its end values outside " + num(low_) + "-" +
                num(high_) + " um";

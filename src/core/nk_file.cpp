@@ -119,6 +119,7 @@ class TabulatedIndex final : public OpticalConstants {
     }
     double min_wavelength_um() const override { return wl_.front(); }
     double max_wavelength_um() const override { return wl_.back(); }
+    std::vector<double> breakpoints_um() const override { return wl_; }
     std::string describe() const override {
         return "tabulated n, k from " + table_.source + " (" + table_.format + ", " +
                std::to_string(table_.rows.size()) + " rows, " + num(wl_.front()) + "-" +

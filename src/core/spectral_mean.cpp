@@ -18,6 +18,7 @@
 #include <algorithm>
 #include <cmath>
 #include <exception>
+#include <memory>
 #include <vector>
 
 #include <gsl/gsl_errno.h>
@@ -84,6 +85,50 @@ struct Integral {
     std::size_t q_evaluations = 0;
 };
 
+struct WorkspaceFree {
+    void operator()(gsl_integration_workspace* w) const { gsl_integration_workspace_free(w); }
+};
+using Workspace = std::unique_ptr<gsl_integration_workspace, WorkspaceFree>;
+
+// How often a piece on which qag gives up (roundoff detected, or out of intervals) is cut
+// into 4 and retried. Kinks of tabulated optical constants trip QUADPACK's roundoff
+// heuristic (bisecting a kink barely lowers the error estimate); fresh starts on shorter
+// pieces get past it. 3 levels: at most 64 sub-pieces per piece.
+constexpr int max_split_depth = 3;
+
+// qag on [a, b] in ln(lambda) to abs_tol (or the relative tolerance); on failure split as
+// above, then throw NumericalError naming the wavelengths.
+Integral adaptive_piece(gsl_function& f, IntegrandState& state, gsl_integration_workspace* w,
+                        const SpectralMeanSettings& settings, double a, double b, double abs_tol,
+                        int depth, const char* what) {
+    double r = 0.0, e = 0.0;
+    // An absolute target per piece, so the pieces' errors add up to at most the requested
+    // share of the total (a relative target per piece would let them add up to more).
+    const double rel_tol = abs_tol > 0.0 ? 0.0 : settings.relative_tolerance;
+    const int status = gsl_integration_qag(&f, a, b, abs_tol, rel_tol,
+                                           settings.max_intervals_per_piece, GSL_INTEG_GAUSS21,
+                                           w, &r, &e);
+    if (state.error) std::rethrow_exception(state.error);
+    if (status == GSL_SUCCESS) return {r, e, 0};
+    if ((status == GSL_EROUND || status == GSL_EMAXITER) && depth > 0) {
+        Integral sum;
+        const double h = (b - a) / 4.0;
+        for (int j = 0; j < 4; ++j) {
+            const Integral part = adaptive_piece(f, state, w, settings, a + h * j,
+                                                 j == 3 ? b : a + h * (j + 1), abs_tol / 4.0,
+                                                 depth - 1, what);
+            sum.value += part.value;
+            sum.abserr += part.abserr;
+        }
+        return sum;
+    }
+    throw NumericalError(std::string(what) + ": GSL qag did not reach relative tolerance " +
+                         num(settings.relative_tolerance) + " between " + num(std::exp(a)) +
+                         " and " + num(std::exp(b)) + " um (" + gsl_strerror(status) +
+                         "; error estimate " + num(e, 3) + " of " + num(r, 6) +
+                         "); loosen the tolerance or use more subintervals");
+}
+
 // int Q F lambda du over the band, to relative tolerance rel_tol of the total (or of
 // abs_floor where the total is smaller).
 Integral integrate_band(const std::function<double(double)>* q, const Spectrum& spectrum,
@@ -91,10 +136,23 @@ Integral integrate_band(const std::function<double(double)>* q, const Spectrum& 
                         double abs_floor, const char* what) {
     IntegrandState state{q, &spectrum, 0, nullptr};
     gsl_function f{&integrand, &state};
-    const int pieces = settings.subintervals;
+    // Piece edges in ln(lambda): equal steps, plus the breakpoints inside the band.
     const double u0 = std::log(band.low_um), u1 = std::log(band.high_um);
-    const double du = (u1 - u0) / pieces;
-    auto edge = [&](int i) { return i == pieces ? u1 : u0 + du * i; };
+    std::vector<double> edges;
+    for (int i = 0; i <= settings.subintervals; ++i)
+        edges.push_back(i == settings.subintervals ? u1
+                                                   : u0 + (u1 - u0) * i / settings.subintervals);
+    for (double b : settings.breakpoints_um)
+        if (b > band.low_um && b < band.high_um) edges.push_back(std::log(b));
+    std::sort(edges.begin(), edges.end());
+    // Drop edges closer than 1e-9 in ln(lambda) to the previous one (no zero-width pieces).
+    std::vector<double> kept{edges.front()};
+    for (std::size_t i = 1; i < edges.size(); ++i)
+        if (edges[i] - kept.back() > 1e-9 || i + 1 == edges.size()) kept.push_back(edges[i]);
+    if (kept.size() > 2 && kept[kept.size() - 1] - kept[kept.size() - 2] <= 1e-9)
+        kept.erase(kept.end() - 2);
+    const int pieces = static_cast<int>(kept.size()) - 1;
+    auto edge = [&](int i) { return kept[static_cast<std::size_t>(i)]; };
 
     std::vector<double> result(pieces), error(pieces);
     double total = 0.0, total_error = 0.0;
@@ -107,37 +165,21 @@ Integral integrate_band(const std::function<double(double)>* q, const Spectrum& 
     }
     const double tolerance = settings.relative_tolerance * std::max(std::abs(total), abs_floor);
     if (total_error > tolerance) {
-        gsl_integration_workspace* w =
-            gsl_integration_workspace_alloc(settings.max_intervals_per_piece);
-        if (w == nullptr) throw NumericalError(std::string(what) + ": cannot allocate GSL workspace");
+        Workspace w(gsl_integration_workspace_alloc(settings.max_intervals_per_piece));
+        if (!w) throw NumericalError(std::string(what) + ": cannot allocate GSL workspace");
         total = 0.0;
         total_error = 0.0;
         for (int i = 0; i < pieces; ++i) {
             if (error[i] > tolerance / pieces) {
-                double r = 0.0, e = 0.0;
-                const int status = gsl_integration_qag(
-                    &f, edge(i), edge(i + 1), tolerance / pieces, settings.relative_tolerance,
-                    settings.max_intervals_per_piece, GSL_INTEG_GAUSS21, w, &r, &e);
-                if (state.error) {
-                    gsl_integration_workspace_free(w);
-                    std::rethrow_exception(state.error);
-                }
-                if (status != GSL_SUCCESS) {
-                    gsl_integration_workspace_free(w);
-                    throw NumericalError(
-                        std::string(what) + ": GSL qag did not reach relative tolerance " +
-                        num(settings.relative_tolerance) + " between " + num(std::exp(edge(i))) +
-                        " and " + num(std::exp(edge(i + 1))) + " um (" + gsl_strerror(status) +
-                        "; error estimate " + num(e, 3) + " of " + num(r, 6) +
-                        "); loosen the tolerance or use more subintervals");
-                }
-                result[i] = r;
-                error[i] = e;
+                const Integral piece =
+                    adaptive_piece(f, state, w.get(), settings, edge(i), edge(i + 1),
+                                   tolerance / pieces, max_split_depth, what);
+                result[i] = piece.value;
+                error[i] = piece.abserr;
             }
             total += result[i];
             total_error += error[i];
         }
-        gsl_integration_workspace_free(w);
     }
     if (!std::isfinite(total))
         throw NumericalError(std::string(what) + ": the integral is not finite");

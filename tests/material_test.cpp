@@ -37,7 +37,9 @@ std::string refusal(const std::string& name, const std::string& text,
     return "(no DataFileError)";
 }
 
-fs::path shared_nk() { return fs::path(HOLDFAST_SHARED_DATA) / "nk"; }
+fs::path shared_nk() {
+    return fs::path(HOLDFAST_SHARED_DATA) / "nk";
+}
 
 } // namespace
 
@@ -128,8 +130,8 @@ TEST_CASE("refractiveindex.info YAML: tabulated nk, n + k pairs, formulas", "[ma
         const auto m = refusal("formula.yml", "DATA:\n  - type: formula 2\n"
                                               "    wavelength_range: 0.2 2\n"
                                               "    coefficients: 0 0.6961663 0.0684043\n");
-        CHECK_THAT(m, Contains("formula 2") && Contains("tabulated data only") &&
-                          Contains("line 2"));
+        CHECK_THAT(m,
+                   Contains("formula 2") && Contains("tabulated data only") && Contains("line 2"));
     }
     SECTION("no DATA section") {
         CHECK_THAT(refusal("nodata.yml", "REFERENCES: |\n    none\n"), Contains("no 'DATA:'"));
@@ -163,9 +165,9 @@ TEST_CASE("shipped materials", "[material]") {
     // Bulk densities as written in the files (from memory / common practice, see the files).
     CHECK(in_g_per_cm3(shipped_material("silicate").density) == Approx(3.3));
     CHECK(in_g_per_cm3(shipped_material("iron").density) == Approx(7.87));
-    CHECK_THROWS_WITH(shipped_material("unobtainium"),
-                      Contains("unknown material 'unobtainium'") && Contains("silicate") &&
-                          Contains("carbon"));
+    CHECK_THROWS_WITH(shipped_material("unobtainium"), Contains("unknown material 'unobtainium'") &&
+                                                           Contains("silicate") &&
+                                                           Contains("carbon"));
     CHECK_THROWS_AS(shipped_material("../CMakeLists"), InputError);
 }
 
@@ -221,8 +223,8 @@ TEST_CASE("reference nk tables read, check and agree with their YAML", "[materia
         for (double f : {0.0, 0.25, 0.5, 0.75, 1.0}) {
             const double lam = std::exp(std::log(s.wavelength_min_um) +
                                         f * std::log(s.wavelength_max_um / s.wavelength_min_um));
-            const auto m = optics->index_at_um(std::clamp(lam, s.wavelength_min_um,
-                                                          s.wavelength_max_um));
+            const auto m =
+                optics->index_at_um(std::clamp(lam, s.wavelength_min_um, s.wavelength_max_um));
             CHECK_FALSE(std::isnan(m.real()));
             CHECK_FALSE(std::isnan(m.imag()));
         }
@@ -230,10 +232,10 @@ TEST_CASE("reference nk tables read, check and agree with their YAML", "[materia
         // reader; their .txt copies were sorted on conversion): refused, naming the line.
         const std::string stem = entry.path().stem().string();
         if (stem == "al2o3-corundum-o-querry-1985" || stem == "fe3o4-magnetite-querry-1985") {
-            CHECK_THROWS_WITH(read_nk_file(yml, policy),
-                              Contains(stem == "fe3o4-magnetite-querry-1985" ? "line 295"
-                                                                             : "line 386") &&
-                                  Contains("sorted"));
+            CHECK_THROWS_WITH(
+                read_nk_file(yml, policy),
+                Contains(stem == "fe3o4-magnetite-querry-1985" ? "line 295" : "line 386") &&
+                    Contains("sorted"));
             continue;
         }
         const NkTable b = read_nk_file(yml, policy);
@@ -267,7 +269,8 @@ TEST_CASE("shipped constants are near laboratory values in the visible", "[mater
         return shipped_material(name).optics->index_at_um(0.55);
     };
     // Warren & Brandt (2008) ice at 0.55 um: n = 1.311; the shipped n within 1%.
-    CHECK(shipped("ice").real() == Approx(lab("h2o-ice-warren-2008.txt", 0.55).real()).epsilon(0.01));
+    CHECK(shipped("ice").real() ==
+          Approx(lab("h2o-ice-warren-2008.txt", 0.55).real()).epsilon(0.01));
     // Hagemann et al. (1975) amorphous carbon film and Querry (1985) iron at 0.55-0.65 um:
     // the shipped constant index is meant to be of that size; 15% allows for the spread
     // across the visible that one constant cannot follow.

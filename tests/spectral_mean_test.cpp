@@ -19,15 +19,15 @@ namespace {
 // Blackbody fraction below lambda, independent of the library: the exponential series of
 // Widger & Woodall (1976) summed until converged, in long double.
 double reference_fraction_below(double wavelength_um, double t_K) {
-    const double c2 = constants::planck_J_s * constants::speed_of_light_m_s /
-                      constants::boltzmann_J_K * 1e6;
+    const double c2 =
+        constants::planck_J_s * constants::speed_of_light_m_s / constants::boltzmann_J_K * 1e6;
     const long double x = c2 / (wavelength_um * t_K);
     long double sum = 0.0L;
     for (int n = 1; n <= 1000000; ++n) {
         const long double dn = n;
-        const long double term = std::exp(-dn * x) / dn *
-                                 (x * x * x + 3.0L * x * x / dn + 6.0L * x / (dn * dn) +
-                                  6.0L / (dn * dn * dn));
+        const long double term =
+            std::exp(-dn * x) / dn *
+            (x * x * x + 3.0L * x * x / dn + 6.0L * x / (dn * dn) + 6.0L / (dn * dn * dn));
         sum += term;
         if (term < 1e-22L * sum) break;
     }
@@ -48,10 +48,9 @@ TEST_CASE("the integration band leaves out the requested flux", "[spectral]") {
         CHECK(blackbody_fraction_below(band.low_um, t) == Approx(5e-7).epsilon(1e-6));
         CHECK(blackbody_fraction_above(band.high_um, t) == Approx(5e-7).epsilon(1e-6));
         // The same band in lambda T for every T (Planck's law depends on lambda T only).
-        CHECK(band.low_um * t == Approx(integration_band(*planck_spectrum(kelvin(5772.0)), 1e-6)
-                                               .low_um *
-                                           5772.0)
-                                     .epsilon(1e-9));
+        CHECK(band.low_um * t ==
+              Approx(integration_band(*planck_spectrum(kelvin(5772.0)), 1e-6).low_um * 5772.0)
+                  .epsilon(1e-9));
     }
     CHECK_THROWS_AS(integration_band(*planck_spectrum(kelvin(5772.0)), 0.0), InputError);
     CHECK_THROWS_AS(integration_band(*planck_spectrum(kelvin(5772.0)), 0.7), InputError);
@@ -120,9 +119,9 @@ TEST_CASE("tighter tolerance agrees; smooth Q is cheap", "[spectral]") {
     SpectralMeanSettings loose, tight;
     loose.relative_tolerance = 1e-6;
     tight.relative_tolerance = 1e-11;
-    for (const auto& [name, q] : {std::pair<const char*, std::function<double(double)>>{
-                                      "smooth", smooth},
-                                  {"rippled", rippled}}) {
+    for (const auto& [name, q] :
+         {std::pair<const char*, std::function<double(double)>>{"smooth", smooth},
+          {"rippled", rippled}}) {
         const auto a = spectral_mean_with_diagnostics(q, *s, band, loose);
         const auto b = spectral_mean_with_diagnostics(q, *s, band, tight);
         INFO(name << ": " << a.q_evaluations << " and " << b.q_evaluations << " evaluations");
@@ -212,8 +211,8 @@ TEST_CASE("out-of-band plans: refuse, hold, limit the band", "[spectral][materia
         CHECK(plan.optics->index_at_um(100.0) == optics->index_at_um(20.0));
         CHECK_THAT(plan.note, Contains("held"));
         // Q from the held optics is defined over the whole band.
-        const double m = spectral_mean([&](double lam) { return plan.optics->index_at_um(lam).imag(); },
-                                       *s, plan.band);
+        const double m = spectral_mean(
+            [&](double lam) { return plan.optics->index_at_um(lam).imag(); }, *s, plan.band);
         CHECK(std::isfinite(m));
     }
     SECTION("limit-band integrates where the table is and reports the flux dropped") {

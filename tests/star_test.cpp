@@ -40,15 +40,15 @@ struct TempFile {
 // exponential series of Widger & Woodall (1976) summed to 200000 terms (exact to rounding
 // for x >= 0.05 that the tests use).
 double reference_fraction_below(double wavelength_um, double t_K) {
-    const double c2 = constants::planck_J_s * constants::speed_of_light_m_s /
-                      constants::boltzmann_J_K * 1e6;
+    const double c2 =
+        constants::planck_J_s * constants::speed_of_light_m_s / constants::boltzmann_J_K * 1e6;
     const double x = c2 / (wavelength_um * t_K);
     long double sum = 0.0L;
     for (int n = 1; n <= 200000; ++n) {
         const long double dn = n;
-        const long double term = std::exp(-dn * x) / dn *
-                                 (x * x * x + 3.0L * x * x / dn + 6.0L * x / (dn * dn) +
-                                  6.0L / (dn * dn * dn));
+        const long double term =
+            std::exp(-dn * x) / dn *
+            (x * x * x + 3.0L * x * x / dn + 6.0L * x / (dn * dn) + 6.0L / (dn * dn * dn));
         sum += term;
         if (term < 1e-22L * sum) break;
     }
@@ -80,15 +80,15 @@ TEST_CASE("the Sun is the IAU 2015 B3 nominal Sun", "[star]") {
     CHECK(s.mass.value() == Approx(1.3271244e20 / 6.67430e-11).epsilon(1e-15));
     // The nominal values satisfy Stefan-Boltzmann to 2.4e-6 (computed with CODATA 2018
     // sigma; IAU 2015 B3 chose them consistent): tolerance 1e-5.
-    CHECK(stefan_boltzmann_luminosity(s.radius, s.teff).value() ==
-          Approx(3.828e26).epsilon(1e-5));
+    CHECK(stefan_boltzmann_luminosity(s.radius, s.teff).value() == Approx(3.828e26).epsilon(1e-5));
     REQUIRE(s.spectrum);
     CHECK_THAT(s.spectrum->describe(), Contains("5772"));
 }
 
 TEST_CASE("Planck B_lambda agrees with astropy", "[star][planck]") {
     // Reference values from astropy 5.2.1 (Debian python3-astropy, CODATA 2018), made with:
-    //   /usr/bin/python3 -c "from astropy.modeling.models import BlackBody; import astropy.units as u;
+    //   /usr/bin/python3 -c "from astropy.modeling.models import BlackBody; import astropy.units as
+    //   u;
     //     bb = BlackBody(temperature=T*u.K, scale=1.0*u.W/(u.m**2*u.sr*u.um));
     //     print(bb(lam*u.um).to_value(u.W/(u.m**2*u.sr*u.um)))"
     // Tolerance 1e-10: the same exact constants; only rounding in exp/expm1 differs.
@@ -96,13 +96,13 @@ TEST_CASE("Planck B_lambda agrees with astropy", "[star][planck]") {
         double t_K, wavelength_um, b;
     };
     const Case cases[] = {
-        {5772, 0.1, 177.96755350699777},      {5772, 0.5, 26238540.56859585},
-        {5772, 1.0, 10736224.706023872},      {5772, 10.0, 4207.349474735922},
-        {5772, 1000.0, 4.772203027608802e-05}, {3000, 0.1, 1.7680673783294406e-08},
-        {3000, 0.5, 260268.33955405338},      {3000, 1.0, 992403.3330070705},
-        {3000, 10.0, 1935.347225527881},      {3000, 1000.0, 2.477498489332888e-05},
-        {10000, 0.1, 6720461.386135188},      {10000, 0.5, 227261027.9303971},
-        {10000, 1.0, 37040256.13720853},      {10000, 10.0, 7696.9171119559105},
+        {5772, 0.1, 177.96755350699777},        {5772, 0.5, 26238540.56859585},
+        {5772, 1.0, 10736224.706023872},        {5772, 10.0, 4207.349474735922},
+        {5772, 1000.0, 4.772203027608802e-05},  {3000, 0.1, 1.7680673783294406e-08},
+        {3000, 0.5, 260268.33955405338},        {3000, 1.0, 992403.3330070705},
+        {3000, 10.0, 1935.347225527881},        {3000, 1000.0, 2.477498489332888e-05},
+        {10000, 0.1, 6720461.386135188},        {10000, 0.5, 227261027.9303971},
+        {10000, 1.0, 37040256.13720853},        {10000, 10.0, 7696.9171119559105},
         {10000, 1000.0, 8.272209360080378e-05},
     };
     for (const auto& c : cases) {
@@ -123,8 +123,8 @@ TEST_CASE("Planck B_lambda does not overflow at the extremes", "[star][planck]")
     // Just below the switch to the exp(-x) form (x = 50) and above it: the two forms agree
     // (identity; tolerance = rounding).
     const double t = 1000.0;
-    const double c2 = constants::planck_J_s * constants::speed_of_light_m_s /
-                      constants::boltzmann_J_K * 1e6;
+    const double c2 =
+        constants::planck_J_s * constants::speed_of_light_m_s / constants::boltzmann_J_K * 1e6;
     const double lam50 = c2 / (50.0 * t);
     CHECK(planck_b_lambda_W_m2_sr_um(lam50 * (1 + 1e-12), t) ==
           Approx(planck_b_lambda_W_m2_sr_um(lam50 * (1 - 1e-12), t)).epsilon(1e-9));
@@ -183,8 +183,8 @@ TEST_CASE("blackbody fraction below a wavelength", "[star][planck]") {
     CHECK(blackbody_fraction_above(INFINITY, t) == 0.0);
     // Long-wavelength tail from the power series: above(lambda) -> (15/pi^4) x^3/3 for
     // x << 1 (Rayleigh-Jeans, analytic); at x ~ 2.5e-4 the next term is -3x/8 ~ 1e-4 relative.
-    const double c2 = constants::planck_J_s * constants::speed_of_light_m_s /
-                      constants::boltzmann_J_K * 1e6;
+    const double c2 =
+        constants::planck_J_s * constants::speed_of_light_m_s / constants::boltzmann_J_K * 1e6;
     const double x = c2 / (1e4 * t);
     CHECK(blackbody_fraction_above(1e4, t) ==
           Approx(15.0 / std::pow(std::numbers::pi, 4) * x * x * x / 3.0).epsilon(2e-4));

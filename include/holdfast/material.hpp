@@ -79,9 +79,9 @@ struct NkRow {
 enum class NegativeK { refuse, clip_to_zero };
 
 struct NkTable {
-    std::vector<NkRow> rows;      // strictly increasing wavelength
-    std::string source;           // file name
-    std::string format;           // "nk text" or "refractiveindex.info YAML (tabulated nk)" etc.
+    std::vector<NkRow> rows;        // strictly increasing wavelength
+    std::string source;             // file name
+    std::string format;             // "nk text" or "refractiveindex.info YAML (tabulated nk)" etc.
     std::vector<std::string> notes; // e.g. how many k < 0 rows were clipped
 };
 
@@ -140,8 +140,8 @@ void require_wavelength_coverage(const OpticalConstants& optics, double low_um, 
 
 // The same optics, defined at every wavelength: outside [min, max] the index at the nearest
 // end. describe() says so.
-std::shared_ptr<const OpticalConstants> with_held_end_values(
-    std::shared_ptr<const OpticalConstants> optics);
+std::shared_ptr<const OpticalConstants>
+with_held_end_values(std::shared_ptr<const OpticalConstants> optics);
 
 // ---- checking a user's file (holdfast materials check) --------------------------------------
 struct NkCheckSummary {

@@ -55,9 +55,10 @@ struct SpectralMeanResult {
     double estimated_relative_error = 0.0;
     std::size_t q_evaluations = 0;
 };
-SpectralMeanResult spectral_mean_with_diagnostics(
-    const std::function<double(double wavelength_um)>& q, const Spectrum& spectrum,
-    const WavelengthBand& band, const SpectralMeanSettings& settings = {});
+SpectralMeanResult
+spectral_mean_with_diagnostics(const std::function<double(double wavelength_um)>& q,
+                               const Spectrum& spectrum, const WavelengthBand& band,
+                               const SpectralMeanSettings& settings = {});
 
 // int g(lambda) F_lambda dlambda over `band`, with dlambda in micrometres (so for a Planck
 // spectrum and g = 1 it approaches sigma T^4 / pi in W m^-2 sr^-1 as the band widens).

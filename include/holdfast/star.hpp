@@ -84,10 +84,10 @@ Star sun();
 // spectrum: null means a Planck curve at teff.
 struct StarInputs {
     std::string name = "custom star";
-    std::optional<Power> luminosity;   // --luminosity
-    std::optional<Mass> mass;          // --mass
-    std::optional<Temperature> teff;   // --teff
-    std::optional<Length> radius;      // --star-radius
+    std::optional<Power> luminosity; // --luminosity
+    std::optional<Mass> mass;        // --mass
+    std::optional<Temperature> teff; // --teff
+    std::optional<Length> radius;    // --star-radius
     std::shared_ptr<const Spectrum> spectrum;
 };
 inline constexpr double stefan_boltzmann_tolerance = 0.01;

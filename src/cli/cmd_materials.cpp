@@ -19,7 +19,9 @@ struct MaterialsOptions {
 };
 
 // The first line of a multi-line provenance text.
-std::string first_line(const std::string& text) { return text.substr(0, text.find('\n')); }
+std::string first_line(const std::string& text) {
+    return text.substr(0, text.find('\n'));
+}
 
 Report list_report() {
     Report r;
@@ -33,8 +35,8 @@ Report list_report() {
     for (const auto& name : shipped_material_names()) {
         const Material m = shipped_material(name);
         const auto idx = m.optics->index_at_um(quote_wavelength_um);
-        g.rows.push_back({m.name, in_g_per_cm3(m.density), idx.real(), idx.imag(),
-                          first_line(m.provenance)});
+        g.rows.push_back(
+            {m.name, in_g_per_cm3(m.density), idx.real(), idx.imag(), first_line(m.provenance)});
         if (!m.limits.empty()) r.assumptions.push_back(m.limits);
     }
     r.grid = std::move(g);
@@ -48,16 +50,18 @@ Report show_report(const MaterialsOptions& o) {
     Report r;
     r.command = "materials show";
     r.parameters.push_back(text_entry("material", "name", m.name));
-    r.results.push_back(number_entry(
-        "bulk density", {Repr{"density_g_cm3", in_g_per_cm3(m.density), "g/cm3"},
-                         Repr{"density_kg_m3", m.density.value(), "kg/m3"}}));
+    r.results.push_back(
+        number_entry("bulk density", {Repr{"density_g_cm3", in_g_per_cm3(m.density), "g/cm3"},
+                                      Repr{"density_kg_m3", m.density.value(), "kg/m3"}}));
     const auto idx = m.optics->index_at_um(quote_wavelength_um);
     r.results.push_back(number_entry("n at 0.55 um", {Repr{"n", idx.real(), ""}}));
     r.results.push_back(number_entry("k at 0.55 um", {Repr{"k", idx.imag(), ""}}));
     const double lo = m.optics->min_wavelength_um(), hi = m.optics->max_wavelength_um();
     if (lo > 0.0 && std::isfinite(hi)) {
-        r.results.push_back(number_entry("shortest wavelength", {Repr{"wavelength_min_um", lo, "um"}}));
-        r.results.push_back(number_entry("longest wavelength", {Repr{"wavelength_max_um", hi, "um"}}));
+        r.results.push_back(
+            number_entry("shortest wavelength", {Repr{"wavelength_min_um", lo, "um"}}));
+        r.results.push_back(
+            number_entry("longest wavelength", {Repr{"wavelength_max_um", hi, "um"}}));
     }
     r.results.push_back(text_entry("optical constants", "optics", m.optics->describe()));
     r.results.push_back(text_entry("provenance", "source", m.provenance));
@@ -74,16 +78,16 @@ Report check_report(const MaterialsOptions& o) {
     r.parameters.push_back(flag_entry("clip negative k", "clip_negative_k", o.clip_negative_k));
     r.results.push_back(text_entry("format", "format", s.format));
     r.results.push_back(number_entry("rows", {Repr{"rows", static_cast<double>(s.rows), ""}}));
-    r.results.push_back(
-        number_entry("shortest wavelength", {Repr{"wavelength_min_um", s.wavelength_min_um, "um"}}));
+    r.results.push_back(number_entry("shortest wavelength",
+                                     {Repr{"wavelength_min_um", s.wavelength_min_um, "um"}}));
     r.results.push_back(
         number_entry("longest wavelength", {Repr{"wavelength_max_um", s.wavelength_max_um, "um"}}));
     r.results.push_back(number_entry("n from", {Repr{"n_min", s.n_min, ""}}));
     r.results.push_back(number_entry("n to", {Repr{"n_max", s.n_max, ""}}));
     r.results.push_back(number_entry("k from", {Repr{"k_min", s.k_min, ""}}));
     r.results.push_back(number_entry("k to", {Repr{"k_max", s.k_max, ""}}));
-    r.results.push_back(
-        number_entry("rows with k = 0", {Repr{"zero_k_rows", static_cast<double>(s.zero_k_rows), ""}}));
+    r.results.push_back(number_entry(
+        "rows with k = 0", {Repr{"zero_k_rows", static_cast<double>(s.zero_k_rows), ""}}));
     r.assumptions.push_back("between rows: linear in ln(wavelength); n linear, k linear in ln(k) "
                             "where both rows have k > 0 and linear otherwise");
     r.assumptions.push_back("outside its wavelength range the table is not used unless "
@@ -116,7 +120,8 @@ Command setup_materials(CLI::App& app) {
                     "Set rows with k < 0 (unphysical, found in some published tables) to k = 0 "
                     "instead of refusing the file");
     // --format and --output may follow the action: `holdfast materials list --format csv`.
-    for (auto* s : {list, show, check}) s->fallthrough();
+    for (auto* s : {list, show, check})
+        s->fallthrough();
 
     Command c;
     c.app = sub;

@@ -67,7 +67,9 @@ std::string optional_text(const toml::table& t, const char* key) {
     return t[key].value<std::string>().value_or("");
 }
 
-fs::path materials_folder() { return fs::path(tables_directory()) / "materials"; }
+fs::path materials_folder() {
+    return fs::path(tables_directory()) / "materials";
+}
 
 } // namespace
 
@@ -83,9 +85,12 @@ OutOfBand parse_out_of_band(const std::string& text, const std::string& option) 
 
 std::string out_of_band_name(OutOfBand choice) {
     switch (choice) {
-    case OutOfBand::refuse: return "refuse";
-    case OutOfBand::hold_end_values: return "hold";
-    case OutOfBand::limit_band: return "limit-band";
+    case OutOfBand::refuse:
+        return "refuse";
+    case OutOfBand::hold_end_values:
+        return "hold";
+    case OutOfBand::limit_band:
+        return "limit-band";
     }
     throw InternalError("out_of_band_name: unknown choice");
 }
@@ -102,8 +107,8 @@ void require_wavelength_coverage(const OpticalConstants& optics, double low_um, 
                      "has data)");
 }
 
-std::shared_ptr<const OpticalConstants> with_held_end_values(
-    std::shared_ptr<const OpticalConstants> optics) {
+std::shared_ptr<const OpticalConstants>
+with_held_end_values(std::shared_ptr<const OpticalConstants> optics) {
     if (!optics) throw InternalError("with_held_end_values: no optical constants given");
     const double lo = optics->min_wavelength_um(), hi = optics->max_wavelength_um();
     if (!(lo > 0.0) && std::isinf(hi)) return optics; // already defined everywhere
@@ -136,11 +141,12 @@ Material shipped_material(const std::string& name) {
     const auto names = shipped_material_names();
     if (std::find(names.begin(), names.end(), name) == names.end()) {
         std::string known;
-        for (const auto& n : names) known += (known.empty() ? "" : ", ") + n;
-        throw InputError("unknown material '" + name + "'. Known materials: " +
-                         (known.empty() ? "(none found in " + materials_folder().string() + ")"
-                                        : known) +
-                         "; or give the optical constants and density yourself");
+        for (const auto& n : names)
+            known += (known.empty() ? "" : ", ") + n;
+        throw InputError(
+            "unknown material '" + name + "'. Known materials: " +
+            (known.empty() ? "(none found in " + materials_folder().string() + ")" : known) +
+            "; or give the optical constants and density yourself");
     }
     Material m = read_material_file((materials_folder() / (name + ".toml")).string());
     if (m.name != name)
@@ -167,8 +173,9 @@ Material read_material_file(const std::string& path) {
     const bool has_index = static_cast<bool>(t["n"]);
     const bool has_table = static_cast<bool>(t["nk_file"]);
     if (has_index == has_table)
-        throw DataFileError(path + ": give either n and k (a constant index) or nk_file (a "
-                                   "table of wavelength_um n k), not " +
+        throw DataFileError(path +
+                            ": give either n and k (a constant index) or nk_file (a "
+                            "table of wavelength_um n k), not " +
                             std::string(has_index ? "both" : "neither"));
     if (has_index) {
         const double n = required<double>(t, "n", path, "a number, the real part of the index");
@@ -179,8 +186,8 @@ Material read_material_file(const std::string& path) {
             throw DataFileError(path + ": k = " + num(k) + " is not >= 0");
         m.optics = std::make_shared<FileConstantIndex>(std::complex<double>(n, k), path);
     } else {
-        const fs::path table = fs::path(path).parent_path() /
-                               required<std::string>(t, "nk_file", path, "a file name");
+        const fs::path table =
+            fs::path(path).parent_path() / required<std::string>(t, "nk_file", path, "a file name");
         m.optics = tabulated_index(read_nk_file(table.string()));
     }
     const std::string summary = optional_text(t, "summary");

@@ -36,8 +36,7 @@ NkTable validate_rows(const std::vector<LineRow>& rows, const std::string& sourc
         };
         if (!std::isfinite(r.wavelength_um) || !std::isfinite(r.n) || !std::isfinite(r.k))
             fail("a value is not finite");
-        if (!(r.wavelength_um > 0.0))
-            fail("wavelength " + num(r.wavelength_um) + " um is not > 0");
+        if (!(r.wavelength_um > 0.0)) fail("wavelength " + num(r.wavelength_um) + " um is not > 0");
         if (i > 0 && r.wavelength_um == rows[i - 1].row.wavelength_um)
             fail("wavelength " + num(r.wavelength_um, 10) + " um repeats the previous row " +
                  "(duplicate wavelength)");
@@ -48,9 +47,10 @@ NkTable validate_rows(const std::vector<LineRow>& rows, const std::string& sourc
         if (!(r.n > 0.0)) fail("n = " + num(r.n) + " is not > 0");
         if (r.k < 0.0) {
             if (negative_k == NegativeK::refuse)
-                fail("k = " + num(r.k) + " is negative (unphysical: m = n + ik with k >= 0 is "
-                                         "an absorbing medium); fix the table, or accept "
-                                         "clipping negative k to 0 (--clip-negative-k)");
+                fail("k = " + num(r.k) +
+                     " is negative (unphysical: m = n + ik with k >= 0 is "
+                     "an absorbing medium); fix the table, or accept "
+                     "clipping negative k to 0 (--clip-negative-k)");
             r.k = 0.0;
             ++clipped;
         }
@@ -67,9 +67,8 @@ NkTable validate_rows(const std::vector<LineRow>& rows, const std::string& sourc
 
 NkTable validate_file_rows(const std::vector<LineRow>& rows, const std::string& source,
                            std::string format, NegativeK negative_k) {
-    return validate_rows(rows, source, std::move(format), negative_k, [&](std::size_t i) {
-        return "line " + std::to_string(rows[i].line);
-    });
+    return validate_rows(rows, source, std::move(format), negative_k,
+                         [&](std::size_t i) { return "line " + std::to_string(rows[i].line); });
 }
 
 std::vector<LineRow> nk_rows(const std::vector<detail::NumericRow>& numeric) {
@@ -135,13 +134,16 @@ class TabulatedIndex final : public OpticalConstants {
 
 std::size_t indentation(std::string_view line) {
     std::size_t i = 0;
-    while (i < line.size() && line[i] == ' ') ++i;
+    while (i < line.size() && line[i] == ' ')
+        ++i;
     return i;
 }
 
 std::string_view trim(std::string_view s) {
-    while (!s.empty() && (s.front() == ' ' || s.front() == '\t')) s.remove_prefix(1);
-    while (!s.empty() && (s.back() == ' ' || s.back() == '\t')) s.remove_suffix(1);
+    while (!s.empty() && (s.front() == ' ' || s.front() == '\t'))
+        s.remove_prefix(1);
+    while (!s.empty() && (s.back() == ' ' || s.back() == '\t'))
+        s.remove_suffix(1);
     return s;
 }
 
@@ -153,8 +155,8 @@ bool blank_or_comment(std::string_view line) {
 struct YamlItem {
     std::string type;
     std::size_t type_line = 0;
-    std::string data;            // the literal block, lines joined by '\n'
-    std::size_t data_line = 0;   // file line of the block's first line
+    std::string data;          // the literal block, lines joined by '\n'
+    std::size_t data_line = 0; // file line of the block's first line
     bool has_data = false;
 };
 
@@ -162,7 +164,8 @@ struct YamlItem {
 std::vector<YamlItem> yaml_data_items(const std::string& text, const std::string& path) {
     const auto lines = detail::split_lines(text);
     std::size_t i = 0;
-    while (i < lines.size() && trim(lines[i]) != "DATA:") ++i;
+    while (i < lines.size() && trim(lines[i]) != "DATA:")
+        ++i;
     if (i == lines.size())
         data_file_error(path, "no 'DATA:' section; expected a refractiveindex.info database "
                               "entry (YAML with DATA: - type: tabulated nk)");
@@ -181,8 +184,9 @@ std::vector<YamlItem> yaml_data_items(const std::string& text, const std::string
             data_file_error(path, i + 1, "expected a list item '- type: ...' under DATA:");
         const auto colon = body.find(':');
         if (colon == std::string_view::npos)
-            data_file_error(path, i + 1, "cannot read '" + std::string(body) +
-                                             "': expected 'key: value' in the DATA item");
+            data_file_error(path, i + 1,
+                            "cannot read '" + std::string(body) +
+                                "': expected 'key: value' in the DATA item");
         const std::string_view key = trim(body.substr(0, colon));
         const std::string_view value = trim(body.substr(colon + 1));
         if (key == "type") {
@@ -191,7 +195,8 @@ std::vector<YamlItem> yaml_data_items(const std::string& text, const std::string
         } else if (key == "data") {
             if (!value.starts_with("|"))
                 data_file_error(path, i + 1, "expected 'data: |' followed by an indented block");
-            const std::size_t key_indent = indentation(line) + (line.find("- ") == indentation(line) ? 2 : 0);
+            const std::size_t key_indent =
+                indentation(line) + (line.find("- ") == indentation(line) ? 2 : 0);
             std::string block;
             std::size_t j = i + 1;
             for (; j < lines.size(); ++j) {
@@ -212,7 +217,8 @@ std::vector<YamlItem> yaml_data_items(const std::string& text, const std::string
 std::vector<LineRow> item_rows(const YamlItem& item, const std::string& path, std::size_t columns,
                                const std::vector<std::string>& names) {
     if (!item.has_data)
-        data_file_error(path, item.type_line, "the '" + item.type + "' item has no 'data: |' block");
+        data_file_error(path, item.type_line,
+                        "the '" + item.type + "' item has no 'data: |' block");
     const auto numeric = detail::read_numeric_rows(item.data, path, columns, names, item.data_line);
     std::vector<LineRow> rows;
     for (const auto& r : numeric)
@@ -223,8 +229,7 @@ std::vector<LineRow> item_rows(const YamlItem& item, const std::string& path, st
 // Checks one column of a "tabulated n" / "tabulated k" item (sorted, positive wavelengths).
 void check_single_column(const std::vector<LineRow>& rows, const std::string& path,
                          const std::string& what) {
-    if (rows.size() < 2)
-        data_file_error(path, "the " + what + " item has fewer than 2 rows");
+    if (rows.size() < 2) data_file_error(path, "the " + what + " item has fewer than 2 rows");
     for (std::size_t i = 0; i < rows.size(); ++i) {
         if (!(rows[i].row.wavelength_um > 0.0))
             data_file_error(path, rows[i].line, "wavelength is not > 0");
@@ -240,7 +245,8 @@ void check_single_column(const std::vector<LineRow>& rows, const std::string& pa
 // in log where `log_values` and both neighbours are > 0.
 double table_value(const std::vector<LineRow>& rows, double x, bool log_values) {
     std::size_t i = 0;
-    while (i + 2 < rows.size() && rows[i + 1].row.wavelength_um <= x) ++i;
+    while (i + 2 < rows.size() && rows[i + 1].row.wavelength_um <= x)
+        ++i;
     const double x0 = rows[i].row.wavelength_um, x1 = rows[i + 1].row.wavelength_um;
     const double t = std::log(x / x0) / std::log(x1 / x0);
     const double v0 = rows[i].row.n, v1 = rows[i + 1].row.n;
@@ -275,8 +281,10 @@ NkTable read_nk_yaml(const std::string& path, NegativeK negative_k) {
         const auto k_rows = item_rows(*k_only, path, 2, {"wavelength_um", "k"});
         check_single_column(n_rows, path, "tabulated n");
         check_single_column(k_rows, path, "tabulated k");
-        const double lo = std::max(n_rows.front().row.wavelength_um, k_rows.front().row.wavelength_um);
-        const double hi = std::min(n_rows.back().row.wavelength_um, k_rows.back().row.wavelength_um);
+        const double lo =
+            std::max(n_rows.front().row.wavelength_um, k_rows.front().row.wavelength_um);
+        const double hi =
+            std::min(n_rows.back().row.wavelength_um, k_rows.back().row.wavelength_um);
         if (!(hi > lo))
             data_file_error(path, "the 'tabulated n' and 'tabulated k' items do not overlap in "
                                   "wavelength");
@@ -290,14 +298,16 @@ NkTable read_nk_yaml(const std::string& path, NegativeK negative_k) {
         grid.erase(std::unique(grid.begin(), grid.end()), grid.end());
         std::vector<LineRow> merged;
         for (double x : grid)
-            merged.push_back({0, NkRow{x, table_value(n_rows, x, false), table_value(k_rows, x, true)}});
+            merged.push_back(
+                {0, NkRow{x, table_value(n_rows, x, false), table_value(k_rows, x, true)}});
         return validate_rows(merged, path, "refractiveindex.info YAML, tabulated n + tabulated k",
                              negative_k, [&](std::size_t i) {
                                  return "merged row at " + num(merged[i].row.wavelength_um) + " um";
                              });
     }
     std::string types;
-    for (const auto& it : items) types += (types.empty() ? "'" : ", '") + it.type + "'";
+    for (const auto& it : items)
+        types += (types.empty() ? "'" : ", '") + it.type + "'";
     for (const auto& it : items)
         if (it.type.starts_with("formula"))
             data_file_error(path, it.type_line,
@@ -305,7 +315,8 @@ NkTable read_nk_yaml(const std::string& path, NegativeK negative_k) {
                                 "); holdfast reads tabulated data only. Tabulate the formula "
                                 "as wavelength_um n k rows, or pick a tabulated entry");
     data_file_error(path, "no 'tabulated nk' item, nor a 'tabulated n' + 'tabulated k' pair, "
-                          "in DATA (found " + types + ")");
+                          "in DATA (found " +
+                              types + ")");
 }
 
 NkTable read_nk_file(const std::string& path, NegativeK negative_k) {
@@ -322,12 +333,12 @@ NkTable read_nk_file(const std::string& path, NegativeK negative_k) {
 
 std::shared_ptr<const OpticalConstants> tabulated_index(NkTable table) {
     std::vector<LineRow> rows;
-    for (const auto& r : table.rows) rows.push_back({0, r});
+    for (const auto& r : table.rows)
+        rows.push_back({0, r});
     // Re-check rows built in code (the file readers have done so already, cheaply repeated).
     NkTable checked = validate_rows(rows, table.source.empty() ? "optical constants" : table.source,
-                                    table.format, NegativeK::refuse, [](std::size_t i) {
-                                        return "row " + std::to_string(i + 1);
-                                    });
+                                    table.format, NegativeK::refuse,
+                                    [](std::size_t i) { return "row " + std::to_string(i + 1); });
     checked.notes = std::move(table.notes);
     return std::make_shared<TabulatedIndex>(std::move(checked));
 }

@@ -105,18 +105,17 @@ Integral adaptive_piece(gsl_function& f, IntegrandState& state, gsl_integration_
     // An absolute target per piece, so the pieces' errors add up to at most the requested
     // share of the total (a relative target per piece would let them add up to more).
     const double rel_tol = abs_tol > 0.0 ? 0.0 : settings.relative_tolerance;
-    const int status = gsl_integration_qag(&f, a, b, abs_tol, rel_tol,
-                                           settings.max_intervals_per_piece, GSL_INTEG_GAUSS21,
-                                           w, &r, &e);
+    const int status = gsl_integration_qag(
+        &f, a, b, abs_tol, rel_tol, settings.max_intervals_per_piece, GSL_INTEG_GAUSS21, w, &r, &e);
     if (state.error) std::rethrow_exception(state.error);
     if (status == GSL_SUCCESS) return {r, e, 0};
     if ((status == GSL_EROUND || status == GSL_EMAXITER) && depth > 0) {
         Integral sum;
         const double h = (b - a) / 4.0;
         for (int j = 0; j < 4; ++j) {
-            const Integral part = adaptive_piece(f, state, w, settings, a + h * j,
-                                                 j == 3 ? b : a + h * (j + 1), abs_tol / 4.0,
-                                                 depth - 1, what);
+            const Integral part =
+                adaptive_piece(f, state, w, settings, a + h * j, j == 3 ? b : a + h * (j + 1),
+                               abs_tol / 4.0, depth - 1, what);
             sum.value += part.value;
             sum.abserr += part.abserr;
         }
@@ -211,11 +210,13 @@ WavelengthBand integration_band(const Spectrum& spectrum, double excluded_flux_f
     // Open ends (a Planck curve): widen a bracket by decades until it holds the tails.
     if (!(lo > 0.0)) {
         lo = 1.0;
-        for (int i = 0; i < 40 && spectrum.flux_fraction_below(lo) >= half; ++i) lo *= 0.1;
+        for (int i = 0; i < 40 && spectrum.flux_fraction_below(lo) >= half; ++i)
+            lo *= 0.1;
     }
     if (!std::isfinite(hi)) {
         hi = std::max(1.0, 10.0 * lo);
-        for (int i = 0; i < 40 && 1.0 - spectrum.flux_fraction_below(hi) >= half; ++i) hi *= 10.0;
+        for (int i = 0; i < 40 && 1.0 - spectrum.flux_fraction_below(hi) >= half; ++i)
+            hi *= 10.0;
     }
     const double low_um = std::exp(wavelength_at_fraction(spectrum, half, lo, hi));
     const double high_um = std::exp(wavelength_at_fraction(spectrum, 1.0 - half, lo, hi));
@@ -239,11 +240,11 @@ SpectralMeanResult spectral_mean_with_diagnostics(const std::function<double(dou
                              num(band.low_um) + " and " + num(band.high_um) + " um");
     // Floor: an absolute accuracy of relative_tolerance * 1e-12 in <Q>, for a Q that is 0 or
     // changes sign over the band.
-    const Integral numer = integrate_band(&q, spectrum, band, settings, 1e-12 * den.value,
-                                          "spectral mean of Q");
+    const Integral numer =
+        integrate_band(&q, spectrum, band, settings, 1e-12 * den.value, "spectral mean of Q");
     const double mean = numer.value / den.value;
-    const double rel = numer.abserr / std::max(std::abs(numer.value), 1e-12 * den.value) +
-                       den.abserr / den.value;
+    const double rel =
+        numer.abserr / std::max(std::abs(numer.value), 1e-12 * den.value) + den.abserr / den.value;
     return {mean, rel, numer.q_evaluations};
 }
 
@@ -287,9 +288,9 @@ SpectralBandPlan plan_spectral_band(const Spectrum& spectrum,
         require_wavelength_coverage(*optics, band.low_um, band.high_um);
         return plan; // not reached: the check throws
     case OutOfBand::hold_end_values: {
-        const double outside = (band.low_um < omin ? spectrum.flux_fraction_below(omin) : 0.0) +
-                               (band.high_um > omax ? 1.0 - spectrum.flux_fraction_below(omax)
-                                                    : 0.0);
+        const double outside =
+            (band.low_um < omin ? spectrum.flux_fraction_below(omin) : 0.0) +
+            (band.high_um > omax ? 1.0 - spectrum.flux_fraction_below(omax) : 0.0);
         plan.optics = with_held_end_values(std::move(optics));
         plan.note = "optical constants cover " + covered + " but the spectrum needs " + needed +
                     "; outside the table the index is held at its end values (" +
@@ -302,8 +303,8 @@ SpectralBandPlan plan_spectral_band(const Spectrum& spectrum,
             throw InputError("optical constants cover " + covered +
                              ", which does not overlap the band the spectrum needs (" + needed +
                              "): limit-band has nothing to integrate over");
-        plan.dropped_flux_fraction = std::max(
-            0.0, 1.0 - settings.excluded_flux_fraction - flux_fraction_in_band(spectrum, plan.band));
+        plan.dropped_flux_fraction = std::max(0.0, 1.0 - settings.excluded_flux_fraction -
+                                                       flux_fraction_in_band(spectrum, plan.band));
         plan.note = "spectral means cover only " + num(plan.band.low_um, 4) + "-" +
                     num(plan.band.high_um, 4) + " um (the optical constants' range) instead of " +
                     needed + ", renormalised to the flux there; " +

@@ -1,8 +1,8 @@
 // The star and the shape of its spectrum.
 //
 // References:
-//   M. Planck (1901), Ann. Phys. 309, 553: B_lambda(T) = 2 h c^2 / lambda^5 / (exp(hc/lambda k T) - 1).
-//   W. K. Widger & M. P. Woodall (1976), Bull. Am. Meteorol. Soc. 57, 1217: series for the
+//   M. Planck (1901), Ann. Phys. 309, 553: B_lambda(T) = 2 h c^2 / lambda^5 / (exp(hc/lambda k T) -
+//   1). W. K. Widger & M. P. Woodall (1976), Bull. Am. Meteorol. Soc. 57, 1217: series for the
 //     fraction of blackbody radiation below a wavelength (the exponential series for x >= 2
 //     and the Bernoulli-number power series for x < 2, x = hc / lambda k T).
 //   IAU 2015 Resolution B3: nominal solar luminosity, radius, effective temperature and GM.
@@ -33,8 +33,8 @@ constexpr double c2_um_K = planck_J_s * speed_of_light_m_s / boltzmann_J_K * 1e6
 // First radiation constant for spectral radiance, 2 h c^2, in W m^2 sr^-1.
 constexpr double c1L_W_m2 = 2.0 * planck_J_s * speed_of_light_m_s * speed_of_light_m_s;
 // int_0^inf t^3 / (e^t - 1) dt = pi^4 / 15.
-constexpr double planck_integral = std::numbers::pi * std::numbers::pi * std::numbers::pi *
-                                   std::numbers::pi / 15.0;
+constexpr double planck_integral =
+    std::numbers::pi * std::numbers::pi * std::numbers::pi * std::numbers::pi / 15.0;
 
 // G(x) = int_x^inf t^3 / (e^t - 1) dt = sum_n e^{-nx} / n (x^3 + 3x^2/n + 6x/n^2 + 6/n^3)
 // (Widger & Woodall 1976, eq. 1 rearranged). Used for x >= 2, where it needs < 25 terms.
@@ -42,9 +42,9 @@ double planck_upper_integral(double x) {
     double sum = 0.0;
     for (int n = 1; n < 10000; ++n) {
         const double dn = n;
-        const double term = std::exp(-dn * x) / dn *
-                            (x * x * x + 3.0 * x * x / dn + 6.0 * x / (dn * dn) +
-                             6.0 / (dn * dn * dn));
+        const double term =
+            std::exp(-dn * x) / dn *
+            (x * x * x + 3.0 * x * x / dn + 6.0 * x / (dn * dn) + 6.0 / (dn * dn * dn));
         sum += term;
         if (term <= 1e-17 * sum) break;
     }
@@ -64,11 +64,13 @@ std::array<double, bernoulli_terms> bernoulli_over_factorial() {
     a[0] = 1.0L;
     for (int j = 1; j < bernoulli_terms; ++j) {
         long double s = 0.0L;
-        for (int k = 0; k < j; ++k) s += a[k] * inv_factorial[j + 1 - k];
+        for (int k = 0; k < j; ++k)
+            s += a[k] * inv_factorial[j + 1 - k];
         a[j] = -s;
     }
     std::array<double, bernoulli_terms> out{};
-    for (int j = 0; j < bernoulli_terms; ++j) out[j] = static_cast<double>(a[j]);
+    for (int j = 0; j < bernoulli_terms; ++j)
+        out[j] = static_cast<double>(a[j]);
     return out;
 }
 
@@ -192,14 +194,13 @@ double integrate_log(const Spectrum& s, double low_um, double high_um) {
     if (low_open && high_open)
         status = gsl_integration_qagi(&f, 0.0, 1e-10, 1000, w, &result, &abserr);
     else if (low_open)
-        status = gsl_integration_qagil(&f, std::log(high_um), 0.0, 1e-10, 1000, w, &result,
-                                       &abserr);
+        status =
+            gsl_integration_qagil(&f, std::log(high_um), 0.0, 1e-10, 1000, w, &result, &abserr);
     else if (high_open)
-        status = gsl_integration_qagiu(&f, std::log(low_um), 0.0, 1e-10, 1000, w, &result,
-                                       &abserr);
+        status = gsl_integration_qagiu(&f, std::log(low_um), 0.0, 1e-10, 1000, w, &result, &abserr);
     else
-        status = gsl_integration_qags(&f, std::log(low_um), std::log(high_um), 0.0, 1e-10, 1000,
-                                      w, &result, &abserr);
+        status = gsl_integration_qags(&f, std::log(low_um), std::log(high_um), 0.0, 1e-10, 1000, w,
+                                      &result, &abserr);
     gsl_integration_workspace_free(w);
     if (status != GSL_SUCCESS || !std::isfinite(result))
         throw NumericalError("flux fraction of spectrum '" + s.describe() + "' between " +
@@ -270,17 +271,17 @@ std::shared_ptr<const Spectrum> tabulated_spectrum(std::vector<double> wavelengt
                                                    std::vector<double> f_lambda,
                                                    std::string description) {
     auto fail = [&](std::size_t row, const std::string& why) {
-        throw InputError("spectrum '" + description + "', row " + std::to_string(row + 1) +
-                         ": " + why);
+        throw InputError("spectrum '" + description + "', row " + std::to_string(row + 1) + ": " +
+                         why);
     };
     if (wavelength_um.size() != f_lambda.size())
-        throw InputError("spectrum '" + description + "': " +
-                         std::to_string(wavelength_um.size()) + " wavelengths but " +
-                         std::to_string(f_lambda.size()) + " F_lambda values");
+        throw InputError("spectrum '" + description + "': " + std::to_string(wavelength_um.size()) +
+                         " wavelengths but " + std::to_string(f_lambda.size()) +
+                         " F_lambda values");
     if (wavelength_um.size() < minimum_spectrum_rows)
-        throw InputError("spectrum '" + description + "': " +
-                         std::to_string(wavelength_um.size()) + " rows; at least " +
-                         std::to_string(minimum_spectrum_rows) + " are needed");
+        throw InputError("spectrum '" + description + "': " + std::to_string(wavelength_um.size()) +
+                         " rows; at least " + std::to_string(minimum_spectrum_rows) +
+                         " are needed");
     bool any_flux = false;
     for (std::size_t i = 0; i < wavelength_um.size(); ++i) {
         if (!std::isfinite(wavelength_um[i]) || !std::isfinite(f_lambda[i]))
@@ -309,18 +310,16 @@ std::shared_ptr<const Spectrum> read_spectrum_file(const std::string& path,
     const std::string text = detail::read_text_file(path);
     const auto rows = detail::read_numeric_rows(text, path, 2, {"wavelength", "F_lambda"});
     if (rows.size() < minimum_spectrum_rows)
-        detail::data_file_error(path, std::to_string(rows.size()) +
-                                          " data rows; a spectrum needs at least " +
-                                          std::to_string(minimum_spectrum_rows) +
-                                          " (wavelength F_lambda per line)");
+        detail::data_file_error(
+            path, std::to_string(rows.size()) + " data rows; a spectrum needs at least " +
+                      std::to_string(minimum_spectrum_rows) + " (wavelength F_lambda per line)");
     std::vector<double> wl, f;
     for (std::size_t i = 0; i < rows.size(); ++i) {
         const double w = rows[i].values[0] * to_um, v = rows[i].values[1];
         const std::size_t line = rows[i].line;
         if (!(w > 0.0))
             detail::data_file_error(path, line,
-                                    "wavelength " + detail::num(rows[i].values[0]) +
-                                        " is not > 0");
+                                    "wavelength " + detail::num(rows[i].values[0]) + " is not > 0");
         if (v < 0.0)
             detail::data_file_error(path, line, "F_lambda " + detail::num(v) + " is negative");
         if (!std::isfinite(w))
@@ -332,9 +331,9 @@ std::shared_ptr<const Spectrum> read_spectrum_file(const std::string& path,
                                         " (duplicate wavelength)");
         if (!wl.empty() && w < wl.back())
             detail::data_file_error(path, line,
-                                    "wavelength " + detail::num(rows[i].values[0]) +
-                                        " is below " + detail::num(rows[i - 1].values[0]) +
-                                        " on line " + std::to_string(rows[i - 1].line) +
+                                    "wavelength " + detail::num(rows[i].values[0]) + " is below " +
+                                        detail::num(rows[i - 1].values[0]) + " on line " +
+                                        std::to_string(rows[i - 1].line) +
                                         "; rows must be sorted by increasing wavelength");
         wl.push_back(w);
         f.push_back(v);
@@ -342,10 +341,9 @@ std::shared_ptr<const Spectrum> read_spectrum_file(const std::string& path,
     if (std::none_of(f.begin(), f.end(), [](double v) { return v > 0.0; }))
         detail::data_file_error(path, "F_lambda is 0 on every line");
     return tabulated_spectrum(std::move(wl), std::move(f),
-                              "tabulated spectrum " + path + " (" +
-                                  std::to_string(rows.size()) + " rows, " +
-                                  detail::num(wl.front()) + "-" + detail::num(wl.back()) +
-                                  " um)");
+                              "tabulated spectrum " + path + " (" + std::to_string(rows.size()) +
+                                  " rows, " + detail::num(wl.front()) + "-" +
+                                  detail::num(wl.back()) + " um)");
 }
 
 Power stefan_boltzmann_luminosity(Length radius, Temperature teff) {
@@ -355,9 +353,8 @@ Power stefan_boltzmann_luminosity(Length radius, Temperature teff) {
 
 Temperature stefan_boltzmann_teff(Power luminosity, Length radius) {
     const double r = radius.value();
-    return kelvin(
-        std::pow(luminosity.value() / (4.0 * std::numbers::pi * r * r * stefan_boltzmann_SI),
-                 0.25));
+    return kelvin(std::pow(
+        luminosity.value() / (4.0 * std::numbers::pi * r * r * stefan_boltzmann_SI), 0.25));
 }
 
 Length stefan_boltzmann_radius(Power luminosity, Temperature teff) {
@@ -390,8 +387,8 @@ Star custom_star(const StarInputs& in) {
     if (!in.mass)
         throw InputError("a custom star needs --mass (for example --mass 1.2 Msun); it sets "
                          "gravity, which no spectrum can tell");
-    const int given = int(in.luminosity.has_value()) + int(in.teff.has_value()) +
-                      int(in.radius.has_value());
+    const int given =
+        int(in.luminosity.has_value()) + int(in.teff.has_value()) + int(in.radius.has_value());
     if (given < 2) {
         std::string missing;
         for (auto [has, name] : {std::pair{in.luminosity.has_value(), "--luminosity"},
@@ -410,14 +407,13 @@ Star custom_star(const StarInputs& in) {
         const double l = in.luminosity->value();
         const double mismatch = l / l_sb - 1.0;
         if (!(std::abs(mismatch) <= stefan_boltzmann_tolerance))
-            throw InputError(
-                "--luminosity, --teff and --star-radius disagree: --luminosity is " +
-                format_lsun(l) + ", but 4 pi R^2 sigma T^4 with --star-radius " +
-                detail::num(in_solar_radii(*in.radius)) + " Rsun and --teff " +
-                detail::num(in.teff->value()) + " K is " + format_lsun(l_sb) + " (" +
-                detail::num(100.0 * mismatch, 3) + "% apart; accepted: within " +
-                detail::num(100.0 * stefan_boltzmann_tolerance) +
-                "%). Give only two of the three, or values that agree");
+            throw InputError("--luminosity, --teff and --star-radius disagree: --luminosity is " +
+                             format_lsun(l) + ", but 4 pi R^2 sigma T^4 with --star-radius " +
+                             detail::num(in_solar_radii(*in.radius)) + " Rsun and --teff " +
+                             detail::num(in.teff->value()) + " K is " + format_lsun(l_sb) + " (" +
+                             detail::num(100.0 * mismatch, 3) + "% apart; accepted: within " +
+                             detail::num(100.0 * stefan_boltzmann_tolerance) +
+                             "%). Give only two of the three, or values that agree");
         s.luminosity = *in.luminosity;
         s.teff = *in.teff;
         s.radius = *in.radius;
@@ -435,8 +431,8 @@ Star custom_star(const StarInputs& in) {
         s.radius = stefan_boltzmann_radius(s.luminosity, s.teff);
     }
     if (!(std::isfinite(s.luminosity.value()) && std::isfinite(s.teff.value()) &&
-          std::isfinite(s.radius.value()) && s.luminosity.value() > 0.0 &&
-          s.teff.value() > 0.0 && s.radius.value() > 0.0))
+          std::isfinite(s.radius.value()) && s.luminosity.value() > 0.0 && s.teff.value() > 0.0 &&
+          s.radius.value() > 0.0))
         throw InputError("--luminosity, --teff, --star-radius: the star's values overflow; "
                          "check their units");
     s.spectrum = in.spectrum ? in.spectrum : planck_spectrum(s.teff);

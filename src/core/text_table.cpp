@@ -50,7 +50,9 @@ std::vector<std::string_view> split_lines(std::string_view text) {
 
 namespace {
 
-bool is_separator(char c) { return c == ' ' || c == '\t' || c == ',' || c == '\v' || c == '\f'; }
+bool is_separator(char c) {
+    return c == ' ' || c == '\t' || c == ',' || c == '\v' || c == '\f';
+}
 
 } // namespace
 
@@ -68,10 +70,12 @@ std::vector<NumericRow> read_numeric_rows(std::string_view text, std::string_vie
         NumericRow row{line_number, {}};
         std::size_t pos = 0;
         while (pos < line.size()) {
-            while (pos < line.size() && is_separator(line[pos])) ++pos;
+            while (pos < line.size() && is_separator(line[pos]))
+                ++pos;
             if (pos >= line.size()) break;
             std::size_t end = pos;
-            while (end < line.size() && !is_separator(line[end])) ++end;
+            while (end < line.size() && !is_separator(line[end]))
+                ++end;
             std::string_view field = line.substr(pos, end - pos);
             // from_chars does not take a leading '+', which some tables write.
             std::string_view digits = field;
@@ -88,9 +92,8 @@ std::vector<NumericRow> read_numeric_rows(std::string_view text, std::string_vie
                                     ") is out of the range of a double");
             if (ec != std::errc() || ptr != digits.data() + digits.size())
                 data_file_error(source, line_number,
-                                "cannot read '" + std::string(field) + "' as a number (" +
-                                    column + "); expected " + std::to_string(columns) +
-                                    " numbers per line");
+                                "cannot read '" + std::string(field) + "' as a number (" + column +
+                                    "); expected " + std::to_string(columns) + " numbers per line");
             if (!std::isfinite(value))
                 data_file_error(source, line_number,
                                 "'" + std::string(field) + "' (" + column + ") is not finite");
@@ -100,7 +103,8 @@ std::vector<NumericRow> read_numeric_rows(std::string_view text, std::string_vie
         if (row.values.empty()) continue; // blank or comment-only line
         if (row.values.size() != columns) {
             std::string names;
-            for (const auto& n : column_names) names += (names.empty() ? "" : " ") + n;
+            for (const auto& n : column_names)
+                names += (names.empty() ? "" : " ") + n;
             data_file_error(source, line_number,
                             "found " + std::to_string(row.values.size()) + " numbers, expected " +
                                 std::to_string(columns) + " (" + names + ")");

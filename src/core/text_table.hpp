@@ -14,7 +14,8 @@ struct NumericRow {
 };
 
 // Throws DataFileError "<source>, line <line>: <why>".
-[[noreturn]] void data_file_error(std::string_view source, std::size_t line, const std::string& why);
+[[noreturn]] void data_file_error(std::string_view source, std::size_t line,
+                                  const std::string& why);
 // Throws DataFileError "<source>: <why>".
 [[noreturn]] void data_file_error(std::string_view source, const std::string& why);
 

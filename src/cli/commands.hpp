@@ -38,5 +38,6 @@ Format parse_format(const std::string& text);
 // One per subcommand file.
 // (subcommand setup functions are declared here as they land)
 Command setup_eddington(CLI::App& app);
+Command setup_materials(CLI::App& app);
 
 } // namespace holdfast::cli

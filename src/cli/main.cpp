@@ -33,6 +33,8 @@ int main(int argc, char** argv) {
 
     std::vector<cli::Command> commands;
     commands.push_back(cli::setup_eddington(app));
+    commands.push_back(cli::setup_materials(app));
+
 
     try {
         app.parse(argc, argv);

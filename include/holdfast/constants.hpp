@@ -11,14 +11,14 @@
 namespace holdfast::constants {
 
 // ---- CODATA 2018 -------------------------------------------------------------------------
-inline constexpr double speed_of_light_m_s = 299792458.0;          // exact
-inline constexpr double gravitational_constant_SI = 6.67430e-11;    // m^3 kg^-1 s^-2, u_r 2.2e-5
-inline constexpr double planck_J_s = 6.62607015e-34;                // exact
-inline constexpr double boltzmann_J_K = 1.380649e-23;               // exact
-inline constexpr double stefan_boltzmann_SI = 5.670374419e-8;       // W m^-2 K^-4, exact to digits shown
-inline constexpr double proton_mass_kg = 1.67262192369e-27;         // u_r 3.1e-10
-inline constexpr double electron_mass_kg = 9.1093837015e-31;        // u_r 3.0e-10
-inline constexpr double atomic_mass_unit_kg = 1.66053906660e-27;    // u_r 3.0e-10
+inline constexpr double speed_of_light_m_s = 299792458.0;        // exact
+inline constexpr double gravitational_constant_SI = 6.67430e-11; // m^3 kg^-1 s^-2, u_r 2.2e-5
+inline constexpr double planck_J_s = 6.62607015e-34;             // exact
+inline constexpr double boltzmann_J_K = 1.380649e-23;            // exact
+inline constexpr double stefan_boltzmann_SI = 5.670374419e-8; // W m^-2 K^-4, exact to digits shown
+inline constexpr double proton_mass_kg = 1.67262192369e-27;   // u_r 3.1e-10
+inline constexpr double electron_mass_kg = 9.1093837015e-31;  // u_r 3.0e-10
+inline constexpr double atomic_mass_unit_kg = 1.66053906660e-27;     // u_r 3.0e-10
 inline constexpr double thomson_cross_section_m2 = 6.6524587321e-29; // u_r 9.1e-10
 
 // ---- IAU ------------------------------------------------------------------------------------
@@ -35,6 +35,6 @@ inline constexpr double solar_mass_kg = solar_gm_m3_s2 / gravitational_constant_
 
 // ---- time and cgs units (definitions) --------------------------------------------------------
 inline constexpr double julian_year_s = 365.25 * 86400.0; // IAU: the Julian year, exact
-inline constexpr double erg_J = 1e-7;                    // exact
+inline constexpr double erg_J = 1e-7;                     // exact
 
 } // namespace holdfast::constants

@@ -95,8 +95,7 @@ struct QuantityRange {
     double low_si = 0.0;
     double high_si = 0.0;
 };
-QuantityRange parse_range_si(std::string_view text, const Dimension& want,
-                             std::string_view option);
+QuantityRange parse_range_si(std::string_view text, const Dimension& want, std::string_view option);
 // Either a range "a..b", or a comma-separated list "a,b,c", or one value: SI values.
 // A range is expanded to `points` log-spaced values (points >= 2 unless low == high).
 std::vector<double> parse_values_si(std::string_view text, const Dimension& want,

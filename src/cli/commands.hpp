@@ -5,6 +5,7 @@
 #include <functional>
 #include <memory>
 #include <string>
+#include <vector>
 
 #include <CLI/CLI.hpp>
 
@@ -23,11 +24,20 @@ struct Command {
     std::function<Report()> run;
 };
 
+// A quantity option's value as typed: it may come as one shell word ('10 Msun') or as
+// several (10 Msun); the words up to the next option are joined with spaces before parsing.
+using Words = std::vector<std::string>;
+std::string text_of(const Words& words, const char* fallback = "");
+CLI::Option* add_quantity_option(CLI::App* sub, const std::string& name, Words& target,
+                                 const std::string& help, const std::string& type_name);
+
 // --format and --output, the same on every subcommand.
 std::shared_ptr<CommonOptions> add_common_options(CLI::App& sub);
 Format parse_format(const std::string& text);
 
 // One per subcommand file.
 // (subcommand setup functions are declared here as they land)
+Command setup_eddington(CLI::App& app);
+Command setup_materials(CLI::App& app);
 
 } // namespace holdfast::cli

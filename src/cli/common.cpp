@@ -16,6 +16,21 @@ std::shared_ptr<CommonOptions> add_common_options(CLI::App& sub) {
     return common;
 }
 
+std::string text_of(const Words& words, const char* fallback) {
+    if (words.empty()) return fallback;
+    std::string t;
+    for (const auto& w : words)
+        t += (t.empty() ? "" : " ") + w;
+    return t;
+}
+
+CLI::Option* add_quantity_option(CLI::App* sub, const std::string& name, Words& target,
+                                 const std::string& help, const std::string& type_name) {
+    return sub->add_option(name, target, help)
+        ->expected(1, CLI::detail::expected_max_vector_size)
+        ->type_name(type_name);
+}
+
 Format parse_format(const std::string& text) {
     if (text == "table") return Format::table;
     if (text == "csv") return Format::csv;

@@ -23,15 +23,17 @@ int main(int argc, char** argv) {
                  "and Eddington limits of accreting objects.\n"
                  "Quantities take their units: --mass 1.4 Msun, --luminosity 3e38 erg/s.",
                  "holdfast"};
-    app.set_version_flag("--version",
-                         fmt::format("holdfast {} (git {})", holdfast::version_string,
-                                     holdfast::git_hash),
-                         "Print the version and git hash, then exit");
+    app.set_version_flag(
+        "--version",
+        fmt::format("holdfast {} (git {})", holdfast::version_string, holdfast::git_hash),
+        "Print the version and git hash, then exit");
     app.require_subcommand(1);
     app.footer("Exit status: 0 success, 2 bad input, 1 a computation failed.\n"
                "Run 'holdfast SUBCOMMAND --help' for the options of each subcommand.");
 
     std::vector<cli::Command> commands;
+    commands.push_back(cli::setup_eddington(app));
+    commands.push_back(cli::setup_materials(app));
 
 
     try {
@@ -60,7 +62,8 @@ int main(int argc, char** argv) {
                 cli::write_file_atomically(c.common->output, text);
             }
             if (format != cli::Format::table || !c.common->output.empty())
-                for (const auto& w : report.warnings) std::cerr << "holdfast: warning: " << w << "\n";
+                for (const auto& w : report.warnings)
+                    std::cerr << "holdfast: warning: " << w << "\n";
             return 0;
         }
         std::cerr << "holdfast: error: no subcommand given\n";

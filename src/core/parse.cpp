@@ -125,7 +125,8 @@ class UnitReader {
                "a number followed by units such as 'Msun', 'erg/s', 'erg/s/cm2', 'g cm^-3'");
     }
     void skip_spaces() {
-        while (pos_ < s_.size() && (s_[pos_] == ' ' || s_[pos_] == '\t')) ++pos_;
+        while (pos_ < s_.size() && (s_[pos_] == ' ' || s_[pos_] == '\t'))
+            ++pos_;
     }
     bool at_end() const { return pos_ >= s_.size(); }
 
@@ -163,7 +164,8 @@ class UnitReader {
             ++pos_;
         } else {
             const std::size_t start = pos_;
-            while (!at_end() && is_symbol_char(s_[pos_])) ++pos_;
+            while (!at_end() && is_symbol_char(s_[pos_]))
+                ++pos_;
             const std::string_view sym = s_.substr(start, pos_ - start);
             if (sym.empty()) fail("expected a unit at " + quoted(s_.substr(start)));
             base = lookup(sym);
@@ -207,8 +209,10 @@ class UnitReader {
 };
 
 std::string_view trim(std::string_view s) {
-    while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front()))) s.remove_prefix(1);
-    while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back()))) s.remove_suffix(1);
+    while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front())))
+        s.remove_prefix(1);
+    while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back())))
+        s.remove_suffix(1);
     return s;
 }
 
@@ -351,7 +355,8 @@ std::vector<double> log_spaced(double low, double high, int points) {
     v.reserve(static_cast<std::size_t>(points));
     const double l0 = std::log(low);
     const double step = (std::log(high) - l0) / (points - 1);
-    for (int i = 0; i < points; ++i) v.push_back(std::exp(l0 + step * i));
+    for (int i = 0; i < points; ++i)
+        v.push_back(std::exp(l0 + step * i));
     v.front() = low; // exact ends, whatever exp(log()) rounding does
     v.back() = high;
     return v;
@@ -370,8 +375,8 @@ std::vector<double> parse_values_si(std::string_view text, const Dimension& want
     std::size_t start = 0;
     while (start <= text.size()) {
         const auto comma = text.find(',', start);
-        const auto piece = text.substr(start, comma == std::string_view::npos ? std::string_view::npos
-                                                                            : comma - start);
+        const auto piece = text.substr(
+            start, comma == std::string_view::npos ? std::string_view::npos : comma - start);
         out.push_back(parse_si_value(trim(piece), want, option, Sign::positive));
         if (comma == std::string_view::npos) break;
         start = comma + 1;
@@ -413,8 +418,7 @@ std::complex<double> parse_refractive_index(std::string_view text, std::string_v
         std::string_view tail = trim(std::string_view(p2, static_cast<std::size_t>(l2 - p2)));
         if (imaginary_form) {
             if (tail != "i" && tail != "j")
-                refuse(option, text, "the imaginary part must end with 'i'",
-                       std::string(accepted));
+                refuse(option, text, "the imaginary part must end with 'i'", std::string(accepted));
         } else if (!tail.empty()) {
             refuse(option, text, "unexpected text after k", std::string(accepted));
         }

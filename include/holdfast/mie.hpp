@@ -33,8 +33,11 @@ struct MieRange {
     static constexpr double x_max_geometric = 1e12;
 };
 
-// Number of series terms used for size parameter x: ceil(x + 4.05 x^(1/3) + 2), the
-// truncation of Wiscombe (1980), Appl. Opt. 19, 1505, eq. (4).
+// Number of series terms used for size parameter x: ceil(x + 6 x^(1/3) + 2). This is the
+// form of Wiscombe's truncation (1980, Appl. Opt. 19, 1505: x + 4.05 x^(1/3) + 2) with a
+// wider margin: the absorption terms beyond Wiscombe's N still carry up to ~7e-9 of Q_abs
+// when Q_abs << Q_ext (measured against a 50-digit sum); with 6 x^(1/3) that drops below
+// 1e-12 for a few per cent more terms.
 int mie_series_terms(double x);
 
 // Homogeneous sphere. Plain doubles: this is the hot kernel. Throws InputError outside

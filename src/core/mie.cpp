@@ -6,8 +6,8 @@
 //    Particles", Wiley (BH): coefficients through the logarithmic derivative D_n(mx)
 //    (eqs. 4.88, 4.89), efficiency sums (4.61, 4.62, 4.74).
 //  - W. J. Wiscombe (1980), Appl. Opt. 19, 1505, "Improved Mie scattering algorithms":
-//    truncation N = x + 4.05 x^(1/3) + 2 (eq. 4), downward recurrence for D_n, upward
-//    recurrence for psi_n(x), chi_n(x).
+//    truncation N = x + 4.05 x^(1/3) + 2 (used here with 6 x^(1/3), see mie_series_terms),
+//    downward recurrence for D_n, upward recurrence for psi_n(x), chi_n(x).
 //  - G. W. Kattawar & G. N. Plass (1967), Appl. Opt. 6, 1377: D_n upward is unstable for
 //    absorbing spheres; downward is stable.
 //
@@ -105,6 +105,8 @@ using detail::cplx;
 
 // 0 < x < small_x_limit: the rearranged, cancellation-free form (see file header).
 MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
+    if (n_terms > detail::small_x_max_terms)
+        throw InternalError("Mie small-x path asked for more terms than it holds");
     std::array<double, detail::small_x_max_terms + 1> psi{};
     std::array<double, detail::small_x_max_terms + 1> rx{};
     std::array<cplx, detail::small_x_max_terms + 1> rz{};
@@ -190,7 +192,7 @@ void check_finite(const MieEfficiencies& q, cplx m, double x) {
 } // namespace
 
 int mie_series_terms(double x) {
-    return static_cast<int>(std::ceil(x + 4.05 * std::cbrt(x) + 2.0));
+    return static_cast<int>(std::ceil(x + 6.0 * std::cbrt(x) + 2.0));
 }
 
 MieEfficiencies mie_sphere(std::complex<double> m, double x) {
@@ -221,6 +223,8 @@ MieEfficiencies mie_perfect_conductor(double x) {
     std::array<double, detail::small_x_max_terms + 1> psi_small{};
     std::array<double, detail::small_x_max_terms + 1> ratio{};
     const bool small = x < detail::small_x_limit;
+    if (small && n_terms > detail::small_x_max_terms)
+        throw InternalError("Mie small-x path asked for more terms than it holds");
     if (small) detail::riccati_psi_small(x, n_terms, psi_small.data(), ratio.data());
     const double inv_x = 1.0 / x;
     double psi_prev = std::sin(x);

@@ -96,6 +96,8 @@ MieEfficiencies mie_coated_sphere(std::complex<double> m_core, std::complex<doub
     std::array<double, detail::small_x_max_terms + 1> psi_small{};
     std::array<double, detail::small_x_max_terms + 1> ratio{};
     const bool small = x_outer < detail::small_x_limit;
+    if (small && n_terms > detail::small_x_max_terms)
+        throw InternalError("Mie small-x path asked for more terms than it holds");
     if (small) detail::riccati_psi_small(x_outer, n_terms, psi_small.data(), ratio.data());
     const double inv_x = 1.0 / x_outer;
     double psi_prev = std::sin(x_outer);

@@ -17,8 +17,8 @@ using cplx = std::complex<double>;
 // recurrence: the upward start psi_1 = sin x / x - cos x loses ~1/x^2 of its digits to
 // cancellation, while every psi_n(x) > 0 for x < pi so the ratio product never meets a zero.
 inline constexpr double small_x_limit = 2.5;
-// Enough room for the terms used below small_x_limit: ceil(2.5 + 4.05 * 2.5^(1/3) + 2) = 11.
-inline constexpr int small_x_max_terms = 16;
+// Room for the terms used below small_x_limit (mie_series_terms(2.5) = 13).
+inline constexpr int small_x_max_terms = 32;
 
 // Throws InputError when m is outside MieRange; `what` names the argument.
 void check_index(cplx m, std::string_view what);

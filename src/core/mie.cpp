@@ -84,6 +84,15 @@ void log_derivative_downward(cplx z, int n_terms, cplx* d) {
     }
 }
 
+void psi_ratio_downward(cplx z, int n_terms, cplx* r) {
+    const cplx inv_z = 1.0 / z;
+    cplx rn(0.0, 0.0); // arbitrary start, as for D_n
+    for (int n = downward_start(std::abs(z), n_terms); n > 0; --n) {
+        rn = 1.0 / (static_cast<double>(2 * n + 1) * inv_z - rn); // r_{n-1}
+        if (n - 1 <= n_terms) r[n - 1] = rn;
+    }
+}
+
 void riccati_psi_small(double x, int n_terms, double* psi, double* ratio) {
     // r_n -> x / (2n + 3) for n >> x; 20 steps down from there reduce the start error by
     // (x / 2n)^40, far below rounding for x < 2.5.
@@ -113,13 +122,7 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
     detail::riccati_psi_small(x, n_terms, psi.data(), rx.data());
 
     // r_n(mx) downward, as for r_n(x) but from above |mx| (|mx| <= 36 here).
-    const cplx z = m * x;
-    const cplx inv_z = 1.0 / z;
-    cplx r(0.0, 0.0);
-    for (int n = detail::downward_start(std::abs(z), n_terms); n > 0; --n) {
-        r = 1.0 / (static_cast<double>(2 * n + 1) * inv_z - r);
-        if (n - 1 <= n_terms) rz[n - 1] = r;
-    }
+    detail::psi_ratio_downward(m * x, n_terms, rz.data());
 
     const cplx m2 = m * m;
     const cplx inv_m = 1.0 / m;

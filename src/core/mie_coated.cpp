@@ -16,11 +16,12 @@
 //   G1 = m2 D1_n(m1 x1) - m1 D1_n(z1),  G2 = m2 D1_n(m1 x1) - m1 D3_n(z1),
 // and H^b_n the same with m1 and m2 swapped in G1, G2. Then a_n, b_n are BH eq. (4.88) at
 // x2 with D_n(m x)/m -> H^a_n / m2 and m D_n(m x) -> m2 H^b_n.
-// Recurrences: D1 downward (as for the homogeneous sphere); D3 upward through
-// psi_n xi_n = psi_{n-1} xi_{n-1} (n/z - D1_{n-1})(n/z - D3_{n-1}), D3_n = D1_n + i/(psi_n xi_n),
-// psi_0 xi_0 = (1 - e^{2iz})/2, D3_0 = i; Q_n upward from
+// Recurrences: D1 downward (as ratios r_n = psi_{n+1}/psi_n, D1_n = (n+1)/z - r_n); D3 upward
+// through psi_n xi_n = psi_{n-1} xi_{n-1} r_{n-1} (n/z - D3_{n-1}), D3_n = D1_n + i/(psi_n xi_n),
+// psi_0 xi_0 = (1 - e^{2iz})/2, D3_0 = i (Yang 2003, eqs. 18-19); Q_n upward from
 // Q_0 = (e^{2i z2} - e^{2i(z2 - z1)}) / (e^{2i z2} - 1), bounded for Im z2 >= Im z1 >= 0,
-// Q_n = Q_{n-1} (D3_n(z1) + n/z1)(D1_n(z2) + n/z2) / [(D1_n(z1) + n/z1)(D3_n(z2) + n/z2)].
+// times the ratio [psi_n/xi_n] / [psi_{n-1}/xi_{n-1}] = r_{n-1} / (n/z - D3_{n-1}) at z1 over
+// the same at z2.
 #include <algorithm>
 #include <array>
 #include <cmath>
@@ -38,26 +39,37 @@ using detail::cplx;
 
 constexpr cplx imag_unit(0.0, 1.0);
 
-// Upward D3_n(z) and psi_n xi_n(z), one step at a time.
+// Upward D3_n(z) = xi_n'/xi_n and psi_n xi_n(z), one order at a time, from the downward
+// ratios r_n = psi_{n+1}/psi_n. Every factor is formed as a ratio (psi_n/psi_{n-1} = r_{n-1},
+// xi_n/xi_{n-1} = n/z - D3_{n-1}) rather than as n/z - D1_{n-1}, which for |z| << n cancels
+// to psi_n/psi_{n-1} ~ z/(2n+1) and loses ~1/|z|^2 of the digits (a tiny core).
 class XiLogDerivative {
   public:
-    explicit XiLogDerivative(cplx z) : inv_z_(1.0 / z) {
-        psi_xi_ = 0.5 * (1.0 - std::exp(2.0 * imag_unit * z));
-        d3_ = imag_unit;
+    XiLogDerivative(cplx z, const cplx* psi_ratio) : inv_z_(1.0 / z), r_(psi_ratio) {
+        psi_xi_ = 0.5 * (1.0 - std::exp(2.0 * imag_unit * z)); // psi_0 xi_0
+        d3_ = imag_unit;                                       // D3_0
     }
-    // Given D1_{n-1} (the current state is order n-1), advance to order n; needs D1_n.
-    void advance(int n, cplx d1_prev, cplx d1_n) {
+    // From order n-1 to order n.
+    void advance(int n) {
         const cplx nz = static_cast<double>(n) * inv_z_;
-        psi_xi_ *= (nz - d1_prev) * (nz - d3_);
-        d3_ = d1_n + imag_unit / psi_xi_;
+        const cplx xi_step = nz - d3_;                 // xi_n / xi_{n-1}
+        const cplx psi_step = r_[n - 1];               // psi_n / psi_{n-1}
+        psi_xi_ *= psi_step * xi_step;
+        d1_ = static_cast<double>(n + 1) * inv_z_ - r_[n];
+        d3_ = d1_ + imag_unit / psi_xi_;
+        step_ = psi_step / xi_step; // [psi_n/xi_n] / [psi_{n-1}/xi_{n-1}]
     }
+    cplx d1() const { return d1_; }
     cplx d3() const { return d3_; }
-    cplx inv_z() const { return inv_z_; }
+    cplx ratio_step() const { return step_; }
 
   private:
     cplx inv_z_;
+    const cplx* r_;
     cplx psi_xi_;
+    cplx d1_{0.0, 0.0};
     cplx d3_;
+    cplx step_{1.0, 0.0};
 };
 
 } // namespace
@@ -77,18 +89,18 @@ MieEfficiencies mie_coated_sphere(std::complex<double> m_core, std::complex<doub
     const auto size = static_cast<std::size_t>(n_terms) + 1;
     thread_local std::vector<cplx> buffer;
     if (buffer.size() < 3 * size) buffer.resize(3 * size);
-    cplx* d_core = buffer.data();        // D1_n(m1 x1)
-    cplx* d_inner = buffer.data() + size;    // D1_n(m2 x1)
-    cplx* d_outer = buffer.data() + 2 * size; // D1_n(m2 x2)
+    cplx* d_core = buffer.data();             // D1_n(m1 x1)
+    cplx* r_inner = buffer.data() + size;     // psi_{n+1}/psi_n at m2 x1
+    cplx* r_outer = buffer.data() + 2 * size; // psi_{n+1}/psi_n at m2 x2
     const cplx z_core = m_core * x_core;
     const cplx z1 = m_mantle * x_core;
     const cplx z2 = m_mantle * x_outer;
     detail::log_derivative_downward(z_core, n_terms, d_core);
-    detail::log_derivative_downward(z1, n_terms, d_inner);
-    detail::log_derivative_downward(z2, n_terms, d_outer);
+    detail::psi_ratio_downward(z1, n_terms, r_inner);
+    detail::psi_ratio_downward(z2, n_terms, r_outer);
 
-    XiLogDerivative xi_inner(z1);
-    XiLogDerivative xi_outer(z2);
+    XiLogDerivative inner(z1, r_inner);
+    XiLogDerivative outer(z2, r_outer);
     const cplx e2 = std::exp(2.0 * imag_unit * z2);
     cplx q_ratio = (e2 - std::exp(2.0 * imag_unit * (z2 - z1))) / (e2 - 1.0);
 
@@ -108,20 +120,20 @@ MieEfficiencies mie_coated_sphere(std::complex<double> m_core, std::complex<doub
 
     detail::MieSums sums;
     for (int n = 1; n <= n_terms; ++n) {
-        xi_inner.advance(n, d_inner[n - 1], d_inner[n]);
-        xi_outer.advance(n, d_outer[n - 1], d_outer[n]);
-        const cplx d3_inner = xi_inner.d3();
-        const cplx d3_outer = xi_outer.d3();
-        const cplx nz1 = static_cast<double>(n) * xi_inner.inv_z();
-        const cplx nz2 = static_cast<double>(n) * xi_outer.inv_z();
-        q_ratio *= (d3_inner + nz1) * (d_outer[n] + nz2) / ((d_inner[n] + nz1) * (d3_outer + nz2));
+        inner.advance(n);
+        outer.advance(n);
+        q_ratio *= inner.ratio_step() / outer.ratio_step();
+        const cplx d1_inner = inner.d1();
+        const cplx d3_inner = inner.d3();
+        const cplx d1_outer = outer.d1();
+        const cplx d3_outer = outer.d3();
 
-        const cplx g1a = m_mantle * d_core[n] - m_core * d_inner[n];
+        const cplx g1a = m_mantle * d_core[n] - m_core * d1_inner;
         const cplx g2a = m_mantle * d_core[n] - m_core * d3_inner;
-        const cplx ha = (g2a * d_outer[n] - q_ratio * g1a * d3_outer) / (g2a - q_ratio * g1a);
-        const cplx g1b = m_core * d_core[n] - m_mantle * d_inner[n];
+        const cplx ha = (g2a * d1_outer - q_ratio * g1a * d3_outer) / (g2a - q_ratio * g1a);
+        const cplx g1b = m_core * d_core[n] - m_mantle * d1_inner;
         const cplx g2b = m_core * d_core[n] - m_mantle * d3_inner;
-        const cplx hb = (g2b * d_outer[n] - q_ratio * g1b * d3_outer) / (g2b - q_ratio * g1b);
+        const cplx hb = (g2b * d1_outer - q_ratio * g1b * d3_outer) / (g2b - q_ratio * g1b);
 
         const double nx = n * inv_x;
         const cplx ga = ha * inv_m2 + nx;

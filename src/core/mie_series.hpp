@@ -117,6 +117,12 @@ inline int downward_start(double abs_z, int n_terms) {
 // memory is that of the series even when |z| >> n_terms.
 void log_derivative_downward(cplx z, int n_terms, cplx* d);
 
+// Ratios r_n(z) = psi_{n+1}(z) / psi_n(z) for n = 0..n_terms into r[0..n_terms], by the
+// downward continued-fraction recurrence r_{n-1} = 1 / ((2n+1)/z - r_n) (the same recurrence
+// as D_n, since D_n = (n+1)/z - r_n, but free of the cancellation n/z - D_{n-1} that the
+// ratio psi_n/psi_{n-1} would suffer for small |z|).
+void psi_ratio_downward(cplx z, int n_terms, cplx* r);
+
 // psi_n(x) for n = 0..n_terms and the ratios r_n = psi_{n+1}(x) / psi_n(x) for
 // n = 0..n_terms, for 0 < x < small_x_limit (n_terms < small_x_max_terms). The ratios come
 // from the downward continued-fraction recurrence r_{n-1} = 1 / ((2n+1)/x - r_n) and

@@ -76,7 +76,7 @@ std::complex<double> index_from_permittivity(std::complex<double> eps) {
     check_permittivity(eps, "index_from_permittivity");
     // The principal square root has Re >= 0 and, for Im(eps) >= 0, Im >= 0: the absorbing
     // branch. A rounding-level negative Im(eps) (or -0.0) would flip it, so clear it first.
-    const cplx m = std::sqrt(cplx(eps.real(), std::max(eps.imag(), 0.0)));
+    const cplx m = std::sqrt(cplx(eps.real(), eps.imag() > 0.0 ? eps.imag() : 0.0));
     return {m.real(), std::max(m.imag(), 0.0)};
 }
 
@@ -119,7 +119,7 @@ std::complex<double> bruggeman_permittivity(std::span<const std::complex<double>
         for (std::size_t j = 0; j < n; ++j) {
             if (j == i) continue;
             // multiply by (e_j + 2 eps)
-            for (std::size_t k = degree + 1; k-- > 0;) {
+            for (std::size_t k = degree + 2; k-- > 0;) {
                 const cplx lower = k > 0 ? term[k - 1] : cplx(0.0, 0.0);
                 term[k] = term[k] * e[j] + 2.0 * lower;
             }

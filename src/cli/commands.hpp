@@ -29,5 +29,6 @@ Format parse_format(const std::string& text);
 
 // One per subcommand file.
 // (subcommand setup functions are declared here as they land)
+Command setup_mie(CLI::App& app);
 
 } // namespace holdfast::cli

@@ -32,6 +32,7 @@ int main(int argc, char** argv) {
                "Run 'holdfast SUBCOMMAND --help' for the options of each subcommand.");
 
     std::vector<cli::Command> commands;
+    commands.push_back(cli::setup_mie(app));
 
 
     try {

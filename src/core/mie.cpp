@@ -72,15 +72,33 @@ void check_size_parameter(double x, double x_max, std::string_view what) {
 
 void log_derivative_downward(cplx z, int n_terms, cplx* d) {
     const cplx inv_z = 1.0 / z;
-    cplx dn(0.0, 0.0); // arbitrary start: its error decays before n = max(N, |z|)
-    for (int n = downward_start(std::abs(z), n_terms); n > n_terms; --n) {
-        const cplx nz = static_cast<double>(n) * inv_z;
-        dn = nz - 1.0 / (dn + nz);
+    // Unnormalised psi_{n+1}, psi_n; the start psi_{top+1} = 0 is the usual arbitrary one
+    // (its error decays before n = max(N, |z|)).
+    constexpr double big = 1e150;
+    constexpr double shrink = 1e-150;
+    cplx upper(0.0, 0.0);
+    cplx current(1.0, 0.0);
+    int n = downward_start(std::abs(z), n_terms);
+    for (; n > n_terms + 1; --n) {
+        const cplx lower = static_cast<double>(2 * n + 1) * inv_z * current - upper;
+        upper = current;
+        current = lower;
+        if (std::abs(current.real()) + std::abs(current.imag()) > big) {
+            upper *= shrink;
+            current *= shrink;
+        }
     }
-    d[n_terms] = dn;
-    for (int n = n_terms; n >= 1; --n) {
-        const cplx nz = static_cast<double>(n) * inv_z;
-        d[n - 1] = nz - 1.0 / (d[n] + nz);
+    // Now current = psi_{N+1}, upper = psi_{N+2} (up to one common factor).
+    for (; n >= 1; --n) {
+        const cplx lower = static_cast<double>(2 * n + 1) * inv_z * current - upper; // psi_{n-1}
+        // psi_{n-1}' = (n/z) psi_{n-1} - psi_n, so D_{n-1} = n/z - psi_n / psi_{n-1}.
+        d[n - 1] = static_cast<double>(n) * inv_z - current / lower;
+        upper = current;
+        current = lower;
+        if (std::abs(current.real()) + std::abs(current.imag()) > big) {
+            upper *= shrink;
+            current *= shrink;
+        }
     }
 }
 

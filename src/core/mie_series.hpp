@@ -62,7 +62,9 @@ class MieSums {
         const cplx av = a.value;
         const cplx bv = b.value;
         ext_ += w * (av.real() + bv.real());
-        sca_ += w * (std::norm(av) + std::norm(bv));
+        // Written out: std::norm goes through std::abs (hypot) unless -ffast-math.
+        sca_ += w * (av.real() * av.real() + av.imag() * av.imag() + bv.real() * bv.real() +
+                     bv.imag() * bv.imag());
         abs_ += w * (a.absorption + b.absorption);
         // n(n+2)/(n+1) Re(a_n a*_{n+1} + b_n b*_{n+1}) for the pair (n-1, n), plus
         // (2n+1)/(n(n+1)) Re(a_n b*_n); a_0 = b_0 = 0 makes the first pair vanish.
@@ -111,10 +113,13 @@ inline int downward_start(double abs_z, int n_terms) {
 }
 
 // Logarithmic derivative D_n(z) = psi_n'(z) / psi_n(z) for n = 0..n_terms into d[0..n_terms]
-// (d must hold n_terms + 1 values), by the downward recurrence
-// D_{n-1} = n/z - 1 / (D_n + n/z) (BH eq. 4.89), which is stable for every z (Kattawar &
-// Plass 1967, Appl. Opt. 6, 1377; Wiscombe 1980). Only n <= n_terms is stored, so the
-// memory is that of the series even when |z| >> n_terms.
+// (d must hold n_terms + 1 values), by downward recurrence, which is stable for every z
+// (Kattawar & Plass 1967, Appl. Opt. 6, 1377; Wiscombe 1980). Only n <= n_terms is stored,
+// so the memory is that of the series even when |z| >> n_terms.
+// BH eq. (4.89), D_{n-1} = n/z - 1/(D_n + n/z), is the Riccati form of the linear recurrence
+// psi_{n-1} = (2n+1)/z psi_n - psi_{n+1}; the linear form is run here (Miller's method, with
+// rescaling against overflow) because its chain from one n to the next has no division, and
+// D_n = psi_{n-1}/psi_n - n/z is then formed off the chain. Same start, same stability.
 void log_derivative_downward(cplx z, int n_terms, cplx* d);
 
 // Ratios r_n(z) = psi_{n+1}(z) / psi_n(z) for n = 0..n_terms into r[0..n_terms], by the

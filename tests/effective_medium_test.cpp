@@ -14,11 +14,14 @@ using cplx = std::complex<double>;
 
 namespace {
 
-double rel(cplx got, cplx want) { return std::abs(got - want) / std::abs(want); }
+double rel(cplx got, cplx want) {
+    return std::abs(got - want) / std::abs(want);
+}
 
 cplx bruggeman_residual(const std::vector<cplx>& eps, const std::vector<double>& f, cplx e) {
     cplx s(0.0, 0.0);
-    for (std::size_t i = 0; i < eps.size(); ++i) s += f[i] * (eps[i] - e) / (eps[i] + 2.0 * e);
+    for (std::size_t i = 0; i < eps.size(); ++i)
+        s += f[i] * (eps[i] - e) / (eps[i] + 2.0 * e);
     return s;
 }
 
@@ -79,8 +82,10 @@ TEST_CASE("Bruggeman solves its equation and matches the two-component quadratic
 TEST_CASE("Bruggeman is symmetric in its components", "[effective_medium]") {
     // Bruggeman (1935): the rule treats every component alike, so any permutation gives the
     // same result to rounding (1e-12).
-    const std::vector<cplx> eps{permittivity_from_index({1.7, 0.03}), {1.0, 0.0},
-                                permittivity_from_index({2.5, 1.2}), {1.77, 0.0}};
+    const std::vector<cplx> eps{permittivity_from_index({1.7, 0.03}),
+                                {1.0, 0.0},
+                                permittivity_from_index({2.5, 1.2}),
+                                {1.77, 0.0}};
     const std::vector<double> f{0.4, 0.3, 0.2, 0.1};
     const cplx ref = bruggeman_permittivity(eps, f);
     CHECK(std::abs(bruggeman_residual(eps, f, ref)) < 1e-13);
@@ -100,8 +105,7 @@ TEST_CASE("Bruggeman is symmetric in its components", "[effective_medium]") {
     CHECK(permutations == 24);
 }
 
-TEST_CASE("Bruggeman of lossless dielectrics lies within the Wiener bounds",
-          "[effective_medium]") {
+TEST_CASE("Bruggeman of lossless dielectrics lies within the Wiener bounds", "[effective_medium]") {
     // Wiener (1912) bounds for real permittivities: the harmonic and arithmetic means.
     const std::vector<cplx> eps{{1.0, 0.0}, {4.0, 0.0}, {9.0, 0.0}};
     const std::vector<double> f{0.2, 0.5, 0.3};
@@ -117,8 +121,7 @@ TEST_CASE("Bruggeman of lossless dielectrics lies within the Wiener bounds",
     CHECK(e.real() < arithmetic);
 }
 
-TEST_CASE("Bruggeman finds the physical root for a metal in a dielectric",
-          "[effective_medium]") {
+TEST_CASE("Bruggeman finds the physical root for a metal in a dielectric", "[effective_medium]") {
     // Of the two roots exactly one has Im(eps) >= 0 here; it must be the one returned, and
     // it must satisfy the equation (residual at rounding level).
     const std::vector<cplx> eps{{-20.0, 1.0}, {2.25, 0.0}};

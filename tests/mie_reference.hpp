@@ -29,8 +29,8 @@ inline ReferenceEfficiencies reference_mie(double n_real, double k_imag, double 
     const Cx z = m * x;
     const int n_max = static_cast<int>(x_double + 6.0 * std::cbrt(x_double) + 20.0);
     const double abs_z = std::hypot(n_real, k_imag) * x_double;
-    const int top = std::max(n_max, static_cast<int>(abs_z)) + 100 +
-                    static_cast<int>(20.0 * std::cbrt(abs_z));
+    const int top =
+        std::max(n_max, static_cast<int>(abs_z)) + 100 + static_cast<int>(20.0 * std::cbrt(abs_z));
     std::vector<Cx> d(static_cast<std::size_t>(top) + 1, Cx(0));
     for (int n = top; n >= 1; --n) {
         const Cx nz = Real(n) / z;
@@ -58,8 +58,7 @@ inline ReferenceEfficiencies reference_mie(double n_real, double k_imag, double 
         s_sca += w * (norm(a) + norm(b));
         if (n > 1) {
             const Real k = rn - 1;
-            s_asym += k * (k + 2) / (k + 1) *
-                      (a_prev * conj(a) + b_prev * conj(b)).real();
+            s_asym += k * (k + 2) / (k + 1) * (a_prev * conj(a) + b_prev * conj(b)).real();
         }
         s_asym += w / (rn * (rn + 1)) * (a * conj(b)).real();
         s_back += (n % 2 == 0 ? w : -w) * (a - b);

@@ -25,8 +25,7 @@ double last_digit_unit(const std::string& text) {
     const std::string mantissa = text.substr(0, e);
     const int exponent = e == std::string::npos ? 0 : std::stoi(text.substr(e + 1));
     const auto dot = mantissa.find('.');
-    const int decimals =
-        dot == std::string::npos ? 0 : static_cast<int>(mantissa.size() - dot - 1);
+    const int decimals = dot == std::string::npos ? 0 : static_cast<int>(mantissa.size() - dot - 1);
     return std::pow(10.0, exponent - decimals);
 }
 
@@ -95,7 +94,8 @@ TEST_CASE("published cases written into this test", "[mie][published]") {
         // Perfectly conducting sphere, Wiscombe (1979) MIEV0 test case 3.
         {0.0, 0.0, 100.0, "2.008102", "2.008102", "0.500926", "Wiscombe 1979 case 3"},
     };
-    for (const auto& c : cases) check_published(c);
+    for (const auto& c : cases)
+        check_published(c);
 }
 
 TEST_CASE("perfect conductor is smooth across Wiscombe's small-particle switch",
@@ -144,7 +144,8 @@ void compare_with_reference(std::complex<double> m, double x) {
     const auto ref = test::reference_mie(m.real(), m.imag(), x);
     const MieEfficiencies q = mie_sphere(m, x);
     INFO("m = " << m.real() << " + " << m.imag() << "i, x = " << x);
-    for (double v : {q.q_ext, q.q_sca, q.q_abs, q.q_back, q.g, q.q_pr}) REQUIRE(std::isfinite(v));
+    for (double v : {q.q_ext, q.q_sca, q.q_abs, q.q_back, q.g, q.q_pr})
+        REQUIRE(std::isfinite(v));
     // 1e-9 relative, the accuracy promised in mie.hpp; the measured differences are <= 4e-13
     // (2.3e-11 for Q_back), so this leaves room for other compilers and libm.
     constexpr double tol = 1e-9;
@@ -163,18 +164,20 @@ void compare_with_reference(std::complex<double> m, double x) {
 } // namespace
 
 TEST_CASE("fast series matches a 50-digit evaluation, x up to 1e3", "[mie][reference]") {
-    const std::complex<double> indices[] = {
-        {1.001, 0.0}, {1.33, 1e-5}, {1.5, 0.0}, {1.7, 0.03}, {2.0, 0.6},   {1.5, 1.0},
-        {3.0, 0.1},   {10.0, 10.0}, {10.0, 0.0}, {0.75, 0.0}, {0.1, 3.0},  {0.5, 0.01},
-        {5.0, 10.0},  {1.05, 10.0}, {0.1, 0.0}};
+    const std::complex<double> indices[] = {{1.001, 0.0}, {1.33, 1e-5}, {1.5, 0.0}, {1.7, 0.03},
+                                            {2.0, 0.6},   {1.5, 1.0},   {3.0, 0.1}, {10.0, 10.0},
+                                            {10.0, 0.0},  {0.75, 0.0},  {0.1, 3.0}, {0.5, 0.01},
+                                            {5.0, 10.0},  {1.05, 10.0}, {0.1, 0.0}};
     const double sizes[] = {1e-6, 1e-3, 0.05, 0.5, 1.0, 2.49, 2.51, 5.0, 10.0, 50.0, 100.0, 1000.0};
     for (const auto m : indices)
-        for (const double x : sizes) compare_with_reference(m, x);
+        for (const double x : sizes)
+            compare_with_reference(m, x);
 }
 
 TEST_CASE("fast series matches a 50-digit evaluation, x = 3e3 and 1e4", "[mie][reference][slow]") {
-    const std::complex<double> indices[] = {{1.33, 1e-5}, {1.7, 0.03}, {2.0, 0.6}, {10.0, 10.0},
-                                            {0.75, 0.0}};
+    const std::complex<double> indices[] = {
+        {1.33, 1e-5}, {1.7, 0.03}, {2.0, 0.6}, {10.0, 10.0}, {0.75, 0.0}};
     for (const auto m : indices)
-        for (const double x : {3e3, 1e4}) compare_with_reference(m, x);
+        for (const double x : {3e3, 1e4})
+            compare_with_reference(m, x);
 }

@@ -20,7 +20,9 @@ bool all_finite(const MieEfficiencies& q) {
            std::isfinite(q.q_back) && std::isfinite(q.g) && std::isfinite(q.q_pr);
 }
 
-double rel(double got, double want) { return std::abs(got - want) / std::abs(want); }
+double rel(double got, double want) {
+    return std::abs(got - want) / std::abs(want);
+}
 
 } // namespace
 

@@ -22,11 +22,11 @@ struct MieEfficiencies {
 // efficiencies agree with a 50-digit evaluation of the same series to a relative 1e-9 or
 // better (tests/mie_reference_test.cpp); outside it the functions throw InputError.
 struct MieRange {
-    static constexpr double x_min = 1e-6;        // size parameter, inclusive
-    static constexpr double x_max_series = 1e5;  // size parameter, inclusive
-    static constexpr double n_min = 0.1;         // real part of m, inclusive
-    static constexpr double n_max = 10.0;        // real part of m, inclusive
-    static constexpr double k_max = 10.0;        // imaginary part of m, 0 <= k <= k_max
+    static constexpr double x_min = 1e-6;       // size parameter, inclusive
+    static constexpr double x_max_series = 1e5; // size parameter, inclusive
+    static constexpr double n_min = 0.1;        // real part of m, inclusive
+    static constexpr double n_max = 10.0;       // real part of m, inclusive
+    static constexpr double k_max = 10.0;       // imaginary part of m, 0 <= k <= k_max
     // The geometric-optics approximation (mie_geometric_optics) accepts x from here up to
     // x_max_geometric; its error against the series is stated in README and mie.cpp.
     static constexpr double x_min_geometric = 100.0;
@@ -66,7 +66,6 @@ MieEfficiencies mie_geometric_optics(std::complex<double> m, double x);
 
 // The exact series up to MieRange::x_max_series and the geometric-optics approximation
 // above it (up to x_max_geometric). `used_series` (if given) tells which one ran.
-MieEfficiencies mie_sphere_any_size(std::complex<double> m, double x,
-                                    bool* used_series = nullptr);
+MieEfficiencies mie_sphere_any_size(std::complex<double> m, double x, bool* used_series = nullptr);
 
 } // namespace holdfast

@@ -34,8 +34,8 @@ std::string index_text(std::complex<double> m) {
     return buf;
 }
 
-[[noreturn]] void refuse(const std::string& option, const std::string& text,
-                         const std::string& why, const std::string& accepted) {
+[[noreturn]] void refuse(const std::string& option, const std::string& text, const std::string& why,
+                         const std::string& accepted) {
     throw InputError(option + ": cannot use '" + text + "': " + why + ". Accepted: " + accepted);
 }
 
@@ -88,8 +88,8 @@ std::complex<double> material_index(const MieOptions& o, Report& report) {
             if (colon == std::string::npos)
                 refuse("--component", c, "no ':' between index and volume fraction", accepted);
             const auto m = parse_refractive_index(c.substr(0, colon), "--component");
-            const double f = number_in(c.substr(colon + 1), "--component", 0.0, 1.0, true,
-                                       accepted);
+            const double f =
+                number_in(c.substr(colon + 1), "--component", 0.0, 1.0, true, accepted);
             sum += f;
             parts.push_back({constant_index(m), f});
         }
@@ -112,9 +112,9 @@ std::complex<double> material_index(const MieOptions& o, Report& report) {
         option_used += " with --porosity";
     }
     if (has_components || !o.porosity.empty())
-        report.parameters.push_back(text_entry(
-            "Mixing rule", "mixing_rule",
-            rule == MixingRule::bruggeman ? "bruggeman" : "maxwell-garnett"));
+        report.parameters.push_back(
+            text_entry("Mixing rule", "mixing_rule",
+                       rule == MixingRule::bruggeman ? "bruggeman" : "maxwell-garnett"));
     const std::complex<double> m = optics->index_at_um(1.0); // constant in wavelength
     check_mie_index(m, option_used, text_used);
     return m;
@@ -173,7 +173,8 @@ Report run_mie(const MieOptions& o) {
         for (double x : parse_values_si(o.size_parameter, dims::none, "--size-parameter", o.points))
             points.push_back({x, 0.0, 0.0});
     } else {
-        const auto radii = parse_values_si(o.grain_radius, dims::length, "--grain-radius", o.points);
+        const auto radii =
+            parse_values_si(o.grain_radius, dims::length, "--grain-radius", o.points);
         const auto waves = parse_values_si(o.wavelength, dims::length, "--wavelength", o.points);
         for (double r : radii)
             for (double w : waves)
@@ -187,8 +188,7 @@ Report run_mie(const MieOptions& o) {
             std::snprintf(buf, sizeof buf,
                           "%s: size parameter %.6g is out of range. Accepted: %g to %g%s",
                           where.c_str(), p.x, MieRange::x_min, x_max,
-                          coated ? " for a coated sphere (no large-particle approximation)"
-                                 : "");
+                          coated ? " for a coated sphere (no large-particle approximation)" : "");
             throw InputError(buf);
         }
     }
@@ -200,18 +200,21 @@ Report run_mie(const MieOptions& o) {
         grid.columns.push_back({"wavelength_um", "wavelength [um]"});
     }
     for (const auto& [key, label] :
-         std::vector<std::pair<std::string, std::string>>{{"n", "n"}, {"k", "k"},
-                                                          {"q_ext", "Q_ext"}, {"q_sca", "Q_sca"},
-                                                          {"q_abs", "Q_abs"}, {"q_back", "Q_back"},
-                                                          {"g", "g"}, {"q_pr", "Q_pr"},
+         std::vector<std::pair<std::string, std::string>>{{"n", "n"},
+                                                          {"k", "k"},
+                                                          {"q_ext", "Q_ext"},
+                                                          {"q_sca", "Q_sca"},
+                                                          {"q_abs", "Q_abs"},
+                                                          {"q_back", "Q_back"},
+                                                          {"g", "g"},
+                                                          {"q_pr", "Q_pr"},
                                                           {"method", "method"}})
         grid.columns.push_back({key, label});
     int approximated = 0;
     for (const auto& p : points) {
         bool series = true;
-        const MieEfficiencies q = coated
-                                      ? mie_coated_sphere(m_core, m, core_fraction * p.x, p.x)
-                                      : mie_sphere_any_size(m, p.x, &series);
+        const MieEfficiencies q = coated ? mie_coated_sphere(m_core, m, core_fraction * p.x, p.x)
+                                         : mie_sphere_any_size(m, p.x, &series);
         if (!series) ++approximated;
         // Filled by assignment: push_back of a variant temporary trips GCC 12's
         // -Wmaybe-uninitialized (a false positive).
@@ -276,8 +279,7 @@ Command setup_mie(CLI::App& app) {
                     "Effective-medium rule for --component and --porosity: bruggeman or "
                     "maxwell-garnett (first component is the matrix)")
         ->default_val("bruggeman");
-    sub->add_option("--porosity", o->porosity,
-                    "Volume fraction of vacuum in the grain, in [0, 1)");
+    sub->add_option("--porosity", o->porosity, "Volume fraction of vacuum in the grain, in [0, 1)");
     sub->add_option("--size-parameter", o->size_parameter,
                     "Size parameter x = 2 pi radius / wavelength: a value, a list 'a,b,c' or a "
                     "log range 'a..b' (see --points)");

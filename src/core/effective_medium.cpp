@@ -55,7 +55,8 @@ void check_permittivity(cplx eps, std::string_view who) {
 
 cplx bruggeman_sum(const cplx* eps, const double* f, std::size_t n, cplx e) {
     cplx s(0.0, 0.0);
-    for (std::size_t i = 0; i < n; ++i) s += f[i] * (eps[i] - e) / (eps[i] + 2.0 * e);
+    for (std::size_t i = 0; i < n; ++i)
+        s += f[i] * (eps[i] - e) / (eps[i] + 2.0 * e);
     return s;
 }
 
@@ -70,7 +71,9 @@ cplx bruggeman_slope(const cplx* eps, const double* f, std::size_t n, cplx e) {
 
 } // namespace
 
-std::complex<double> permittivity_from_index(std::complex<double> m) { return m * m; }
+std::complex<double> permittivity_from_index(std::complex<double> m) {
+    return m * m;
+}
 
 std::complex<double> index_from_permittivity(std::complex<double> eps) {
     check_permittivity(eps, "index_from_permittivity");
@@ -90,7 +93,8 @@ std::complex<double> bruggeman_permittivity(std::span<const std::complex<double>
         throw InputError(std::string(who) + ": at most " + std::to_string(max_components) +
                          " components");
     check_fractions(volume_fractions, who);
-    for (cplx e : eps) check_permittivity(e, who);
+    for (cplx e : eps)
+        check_permittivity(e, who);
 
     // Merge identical components, drop empty ones.
     std::array<cplx, max_components> e{};
@@ -99,7 +103,8 @@ std::complex<double> bruggeman_permittivity(std::span<const std::complex<double>
     for (std::size_t i = 0; i < eps.size(); ++i) {
         if (volume_fractions[i] == 0.0) continue;
         std::size_t j = 0;
-        while (j < n && e[j] != eps[i]) ++j;
+        while (j < n && e[j] != eps[i])
+            ++j;
         if (j == n) {
             e[n] = eps[i];
             f[n] = 0.0;
@@ -125,12 +130,14 @@ std::complex<double> bruggeman_permittivity(std::span<const std::complex<double>
             }
             ++degree;
         }
-        for (std::size_t k = 0; k <= n; ++k) c[k] += term[k];
+        for (std::size_t k = 0; k <= n; ++k)
+            c[k] += term[k];
     }
     const std::size_t degree = n;
     const cplx lead = c[degree];
     double radius = 0.0;
-    for (std::size_t k = 0; k < degree; ++k) radius = std::max(radius, std::abs(c[k] / lead));
+    for (std::size_t k = 0; k < degree; ++k)
+        radius = std::max(radius, std::abs(c[k] / lead));
     radius += 1.0; // every root lies within this circle (Cauchy's bound)
 
     // Durand-Kerner: all roots at once from points spread round a circle.
@@ -146,7 +153,8 @@ std::complex<double> bruggeman_permittivity(std::span<const std::complex<double>
         converged = true;
         for (std::size_t k = 0; k < degree; ++k) {
             cplx value = c[degree];
-            for (std::size_t p = degree; p-- > 0;) value = value * root[k] + c[p];
+            for (std::size_t p = degree; p-- > 0;)
+                value = value * root[k] + c[p];
             cplx den = lead;
             for (std::size_t j = 0; j < degree; ++j)
                 if (j != k) den *= root[k] - root[j];
@@ -161,9 +169,11 @@ std::complex<double> bruggeman_permittivity(std::span<const std::complex<double>
 
     // Choose the physical root, then polish it on the original equation.
     cplx mean(0.0, 0.0);
-    for (std::size_t i = 0; i < n; ++i) mean += f[i] * e[i];
+    for (std::size_t i = 0; i < n; ++i)
+        mean += f[i] * e[i];
     double scale = 0.0;
-    for (std::size_t i = 0; i < n; ++i) scale = std::max(scale, std::abs(e[i]));
+    for (std::size_t i = 0; i < n; ++i)
+        scale = std::max(scale, std::abs(e[i]));
     std::size_t best = degree;
     for (std::size_t k = 0; k < degree; ++k) {
         if (root[k].imag() < -1e-9 * scale) continue;
@@ -178,8 +188,7 @@ std::complex<double> bruggeman_permittivity(std::span<const std::complex<double>
         result -= bruggeman_sum(e.data(), f.data(), n, result) / slope;
     }
     const cplx residual = bruggeman_sum(e.data(), f.data(), n, result);
-    if (!std::isfinite(result.real()) || !std::isfinite(result.imag()) ||
-        std::abs(residual) > 1e-8)
+    if (!std::isfinite(result.real()) || !std::isfinite(result.imag()) || std::abs(residual) > 1e-8)
         throw NumericalError("Bruggeman mixing did not converge (residual " +
                              std::to_string(std::abs(residual)) + ")");
     if (result.imag() < 0.0) result.imag(0.0); // rounding below zero for lossless components
@@ -226,14 +235,17 @@ class Mixture final : public OpticalConstants {
         // Maxwell Garnett: component 0 is the matrix; the inclusions are first mixed among
         // themselves (Bruggeman, fractions renormalised) into one inclusion medium.
         double f_inclusions = 0.0;
-        for (std::size_t i = 1; i < n; ++i) f_inclusions += f[i];
+        for (std::size_t i = 1; i < n; ++i)
+            f_inclusions += f[i];
         if (n == 1 || f_inclusions == 0.0) return index_from_permittivity(eps[0]);
         cplx eps_inclusion = eps[1];
         if (n > 2) {
             std::array<double, max_components> g{};
             double sum = 0.0;
-            for (std::size_t i = 1; i < n; ++i) sum += f[i];
-            for (std::size_t i = 1; i < n; ++i) g[i - 1] = f[i] / sum;
+            for (std::size_t i = 1; i < n; ++i)
+                sum += f[i];
+            for (std::size_t i = 1; i < n; ++i)
+                g[i - 1] = f[i] / sum;
             eps_inclusion = bruggeman_permittivity(std::span(eps.data() + 1, n - 1),
                                                    std::span(g.data(), n - 1));
         }
@@ -243,12 +255,14 @@ class Mixture final : public OpticalConstants {
 
     double min_wavelength_um() const override {
         double v = 0.0;
-        for (const auto& c : components_) v = std::max(v, c.optics->min_wavelength_um());
+        for (const auto& c : components_)
+            v = std::max(v, c.optics->min_wavelength_um());
         return v;
     }
     double max_wavelength_um() const override {
         double v = std::numeric_limits<double>::infinity();
-        for (const auto& c : components_) v = std::min(v, c.optics->max_wavelength_um());
+        for (const auto& c : components_)
+            v = std::min(v, c.optics->max_wavelength_um());
         return v;
     }
     std::string describe() const override {
@@ -292,8 +306,7 @@ std::shared_ptr<const OpticalConstants> mixture(std::vector<MixtureComponent> co
         hi = std::min(hi, c.optics->max_wavelength_um());
     }
     if (!(lo <= hi))
-        throw InputError(std::string(who) +
-                         ": the components' wavelength ranges do not overlap");
+        throw InputError(std::string(who) + ": the components' wavelength ranges do not overlap");
     return std::make_shared<const Mixture>(std::move(components), rule);
 }
 

@@ -48,15 +48,14 @@ std::string format_index(cplx m) {
 
 void check_index(cplx m, std::string_view what) {
     const bool ok = std::isfinite(m.real()) && std::isfinite(m.imag()) &&
-                    m.real() >= MieRange::n_min && m.real() <= MieRange::n_max &&
-                    m.imag() >= 0.0 && m.imag() <= MieRange::k_max;
+                    m.real() >= MieRange::n_min && m.real() <= MieRange::n_max && m.imag() >= 0.0 &&
+                    m.imag() <= MieRange::k_max;
     if (!ok) {
         char buf[160];
         std::snprintf(buf, sizeof buf,
                       ": refractive index %s is outside the range of the Mie series: "
                       "n in [%g, %g], k in [0, %g]",
-                      format_index(m).c_str(), MieRange::n_min, MieRange::n_max,
-                      MieRange::k_max);
+                      format_index(m).c_str(), MieRange::n_min, MieRange::n_max, MieRange::k_max);
         throw InputError(std::string(what) + buf);
     }
 }
@@ -121,7 +120,8 @@ void riccati_psi_small(double x, int n_terms, double* psi, double* ratio) {
         if (n - 1 <= n_terms) ratio[n - 1] = r;
     }
     psi[0] = std::sin(x);
-    for (int n = 1; n <= n_terms; ++n) psi[n] = psi[n - 1] * ratio[n - 1];
+    for (int n = 1; n <= n_terms; ++n)
+        psi[n] = psi[n - 1] * ratio[n - 1];
 }
 
 } // namespace detail
@@ -147,8 +147,8 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
     const cplx inv_m2 = 1.0 / m2;
     const cplx c = (1.0 - m2) * inv_m2; // 1/m^2 - 1 without cancellation near m = 1
     const double inv_x = 1.0 / x;
-    double chi_prev = std::cos(x);             // chi_0
-    double chi = chi_prev * inv_x + psi[0];    // chi_1 = cos x / x + sin x
+    double chi_prev = std::cos(x);          // chi_0
+    double chi = chi_prev * inv_x + psi[0]; // chi_1 = cos x / x + sin x
     detail::MieSums sums;
     for (int n = 1; n <= n_terms; ++n) {
         const double dn = n;
@@ -255,7 +255,8 @@ MieEfficiencies mie_perfect_conductor(double x) {
     detail::MieSums sums;
     for (int n = 1; n <= n_terms; ++n) {
         const double ga = n * inv_x;
-        sums.add(n, detail::coefficient(cplx(ga, 0.0), cplx(ga * psi - psi_prev, 0.0), chi, chi_prev),
+        sums.add(n,
+                 detail::coefficient(cplx(ga, 0.0), cplx(ga * psi - psi_prev, 0.0), chi, chi_prev),
                  detail::coefficient_pq(cplx(psi, 0.0), cplx(chi, 0.0), 0.0));
         const double f = (2.0 * n + 1.0) * inv_x;
         const double psi_next = small ? psi_small[std::min(n + 1, n_terms)] : f * psi - psi_prev;

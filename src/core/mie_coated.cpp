@@ -52,8 +52,8 @@ class XiLogDerivative {
     // From order n-1 to order n.
     void advance(int n) {
         const cplx nz = static_cast<double>(n) * inv_z_;
-        const cplx xi_step = nz - d3_;                 // xi_n / xi_{n-1}
-        const cplx psi_step = r_[n - 1];               // psi_n / psi_{n-1}
+        const cplx xi_step = nz - d3_;   // xi_n / xi_{n-1}
+        const cplx psi_step = r_[n - 1]; // psi_n / psi_{n-1}
         psi_xi_ *= psi_step * xi_step;
         d1_ = static_cast<double>(n + 1) * inv_z_ - r_[n];
         d3_ = d1_ + imag_unit / psi_xi_;

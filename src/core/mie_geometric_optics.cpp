@@ -105,7 +105,7 @@ RayIntegrand rays_at(cplx m, double x, double c) {
     const double theta_i = std::acos(c);
     const double theta_t = std::acos(cos_t);
     const double tau = std::exp(-4.0 * m.imag() * x * cos_t);
-    const double d1 = 2.0 * (theta_i - theta_t);         // deviation of p = 1
+    const double d1 = 2.0 * (theta_i - theta_t);           // deviation of p = 1
     const double delta = std::numbers::pi - 2.0 * theta_t; // added by each internal reflection
     const double t_sum = (1.0 - r) * (1.0 - r) * tau / (1.0 - r * tau);
     const cplx p_sum = (1.0 - r) * (1.0 - r) * tau * std::polar(1.0, d1) /

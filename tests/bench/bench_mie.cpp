@@ -18,13 +18,17 @@ void run(benchmark::State& state, std::complex<double> m) {
     }
     state.counters["terms"] = terms;
     // Terms per nanosecond as a rate, inverted: nanoseconds per term.
-    state.counters["ns_per_term"] = benchmark::Counter(
-        1e-9 * terms * static_cast<double>(state.iterations()),
-        benchmark::Counter::kIsRate | benchmark::Counter::kInvert);
+    state.counters["ns_per_term"] =
+        benchmark::Counter(1e-9 * terms * static_cast<double>(state.iterations()),
+                           benchmark::Counter::kIsRate | benchmark::Counter::kInvert);
 }
 
-void BM_mie_1p7_0p03i(benchmark::State& state) { run(state, {1.7, 0.03}); }
-void BM_mie_2p0_0p6i(benchmark::State& state) { run(state, {2.0, 0.6}); }
+void BM_mie_1p7_0p03i(benchmark::State& state) {
+    run(state, {1.7, 0.03});
+}
+void BM_mie_2p0_0p6i(benchmark::State& state) {
+    run(state, {2.0, 0.6});
+}
 
 } // namespace
 

@@ -39,5 +39,6 @@ Format parse_format(const std::string& text);
 // (subcommand setup functions are declared here as they land)
 Command setup_eddington(CLI::App& app);
 Command setup_materials(CLI::App& app);
+Command setup_mie(CLI::App& app);
 
 } // namespace holdfast::cli

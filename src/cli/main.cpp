@@ -34,6 +34,7 @@ int main(int argc, char** argv) {
     std::vector<cli::Command> commands;
     commands.push_back(cli::setup_eddington(app));
     commands.push_back(cli::setup_materials(app));
+    commands.push_back(cli::setup_mie(app));
 
 
     try {

@@ -1,0 +1,137 @@
+#pragma once
+// Pieces shared by the Mie kernels in this folder (private to holdfast_core).
+// References: C. F. Bohren & D. R. Huffman (1983), "Absorption and Scattering of Light by
+// Small Particles", Wiley (BH below), chapter 4; W. J. Wiscombe (1980), Appl. Opt. 19, 1505.
+#include <cmath>
+#include <complex>
+#include <string>
+#include <string_view>
+
+#include "holdfast/mie.hpp"
+
+namespace holdfast::detail {
+
+using cplx = std::complex<double>;
+
+// Below this size parameter psi_n(x) is built from downward ratios instead of the upward
+// recurrence: the upward start psi_1 = sin x / x - cos x loses ~1/x^2 of its digits to
+// cancellation, while every psi_n(x) > 0 for x < pi so the ratio product never meets a zero.
+inline constexpr double small_x_limit = 2.5;
+// Room for the terms used below small_x_limit (mie_series_terms(2.5) = 13).
+inline constexpr int small_x_max_terms = 32;
+
+// Throws InputError when m is outside MieRange; `what` names the argument.
+void check_index(cplx m, std::string_view what);
+// Throws InputError unless x_min <= x <= x_max; `what` names the argument.
+void check_size_parameter(double x, double x_max, std::string_view what);
+std::string format_index(cplx m);
+
+// One Mie coefficient c = P / (P - i Q), which is BH eq. (4.88) with xi_n = psi_n - i chi_n,
+// P = G psi_n - psi_{n-1} and Q = G chi_n - chi_{n-1}. The division is written out so that
+// Re(c) comes out as (|P|^2 + Re P Im Q - Im P Re Q) / |P - iQ|^2 without an extra rounding
+// step, and `absorption` = Re(c) - |c|^2 is returned from the Wronskian identity
+// psi_n chi_{n-1} - psi_{n-1} chi_n = -1, which turns Im(P conj Q) into Im(G):
+// Re(c) - |c|^2 = -Im(G) / |P - iQ|^2. That sum of non-negative terms gives Q_abs with full
+// relative precision even where Q_abs << Q_sca (no subtraction Q_ext - Q_sca).
+struct Coefficient {
+    cplx value;
+    double absorption;
+};
+
+inline Coefficient coefficient_pq(cplx p, cplx q, double minus_im_g) {
+    const double den_re = p.real() + q.imag();
+    const double den_im = p.imag() - q.real();
+    const double inv = 1.0 / (den_re * den_re + den_im * den_im);
+    return {cplx((p.real() * den_re + p.imag() * den_im) * inv,
+                 (p.imag() * den_re - p.real() * den_im) * inv),
+            minus_im_g * inv};
+}
+
+inline Coefficient coefficient(cplx g, cplx p, double chi, double chi_prev) {
+    return coefficient_pq(p, g * chi - chi_prev, -g.imag());
+}
+
+// Running sums over n = 1, 2, ... of the efficiency series, BH eqs. (4.61), (4.62) for
+// Q_sca and Q_ext, (4.74) for g Q_sca, and the backscattering sum of BH section 4.6.
+class MieSums {
+  public:
+    void add(int n, const Coefficient& a, const Coefficient& b) {
+        const double dn = n;
+        const double w = 2.0 * dn + 1.0;
+        const double inv = 1.0 / (dn * (dn + 1.0));
+        const cplx av = a.value;
+        const cplx bv = b.value;
+        ext_ += w * (av.real() + bv.real());
+        // Written out: std::norm goes through std::abs (hypot) unless -ffast-math.
+        sca_ += w * (av.real() * av.real() + av.imag() * av.imag() + bv.real() * bv.real() +
+                     bv.imag() * bv.imag());
+        abs_ += w * (a.absorption + b.absorption);
+        // n(n+2)/(n+1) Re(a_n a*_{n+1} + b_n b*_{n+1}) for the pair (n-1, n), plus
+        // (2n+1)/(n(n+1)) Re(a_n b*_n); a_0 = b_0 = 0 makes the first pair vanish.
+        asym_ += (dn - 1.0) * (dn + 1.0) * (dn + 1.0) * inv *
+                     (a_prev_.real() * av.real() + a_prev_.imag() * av.imag() +
+                      b_prev_.real() * bv.real() + b_prev_.imag() * bv.imag()) +
+                 w * inv * (av.real() * bv.real() + av.imag() * bv.imag());
+        back_ += (sign_ * w) * (av - bv);
+        sign_ = -sign_;
+        a_prev_ = av;
+        b_prev_ = bv;
+    }
+
+    MieEfficiencies finish(double x) const {
+        MieEfficiencies q;
+        const double f = 2.0 / (x * x);
+        q.q_ext = f * ext_;
+        q.q_sca = f * sca_;
+        q.q_abs = f * abs_;
+        const double g_q_sca = 2.0 * f * asym_;
+        q.q_back = std::norm(back_) / (x * x);
+        q.g = q.q_sca > 0.0 ? g_q_sca / q.q_sca : 0.0;
+        q.q_pr = q.q_ext - g_q_sca;
+        return q;
+    }
+
+  private:
+    double ext_ = 0.0;
+    double sca_ = 0.0;
+    double abs_ = 0.0;
+    double asym_ = 0.0;
+    cplx back_{0.0, 0.0};
+    double sign_ = -1.0; // (-1)^n for n = 1
+    cplx a_prev_{0.0, 0.0};
+    cplx b_prev_{0.0, 0.0};
+};
+
+// Start of the downward recurrences for an argument of modulus |z| when N terms are needed.
+// BH (appendix A) start at max(N, |z|) + 15; the extra 5 |z|^(1/3) covers the transition
+// region n ~ |z| (width ~ |z|^(1/3) from the Airy asymptotics of psi_n), so that the error of
+// the arbitrary start value has decayed below rounding before n = max(N, |z|) even for
+// |z| ~ 1e6, where +15 alone is not enough.
+inline int downward_start(double abs_z, int n_terms) {
+    const double above = std::ceil(abs_z + 5.0 * std::cbrt(abs_z));
+    return (above > n_terms ? static_cast<int>(above) : n_terms) + 16;
+}
+
+// Logarithmic derivative D_n(z) = psi_n'(z) / psi_n(z) for n = 0..n_terms into d[0..n_terms]
+// (d must hold n_terms + 1 values), by downward recurrence, which is stable for every z
+// (Kattawar & Plass 1967, Appl. Opt. 6, 1377; Wiscombe 1980). Only n <= n_terms is stored,
+// so the memory is that of the series even when |z| >> n_terms.
+// BH eq. (4.89), D_{n-1} = n/z - 1/(D_n + n/z), is the Riccati form of the linear recurrence
+// psi_{n-1} = (2n+1)/z psi_n - psi_{n+1}; the linear form is run here (Miller's method, with
+// rescaling against overflow) because its chain from one n to the next has no division, and
+// D_n = psi_{n-1}/psi_n - n/z is then formed off the chain. Same start, same stability.
+void log_derivative_downward(cplx z, int n_terms, cplx* d);
+
+// Ratios r_n(z) = psi_{n+1}(z) / psi_n(z) for n = 0..n_terms into r[0..n_terms], by the
+// downward continued-fraction recurrence r_{n-1} = 1 / ((2n+1)/z - r_n) (the same recurrence
+// as D_n, since D_n = (n+1)/z - r_n, but free of the cancellation n/z - D_{n-1} that the
+// ratio psi_n/psi_{n-1} would suffer for small |z|).
+void psi_ratio_downward(cplx z, int n_terms, cplx* r);
+
+// psi_n(x) for n = 0..n_terms and the ratios r_n = psi_{n+1}(x) / psi_n(x) for
+// n = 0..n_terms, for 0 < x < small_x_limit (n_terms < small_x_max_terms). The ratios come
+// from the downward continued-fraction recurrence r_{n-1} = 1 / ((2n+1)/x - r_n) and
+// psi_n = psi_{n-1} r_{n-1} from psi_0 = sin x, so no digit is lost for small x.
+void riccati_psi_small(double x, int n_terms, double* psi, double* ratio);
+
+} // namespace holdfast::detail

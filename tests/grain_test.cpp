@@ -25,9 +25,7 @@ const Mass sun_mass = kilograms(constants::solar_mass_kg);
 const Length sun_radius = metres(constants::solar_radius_m);
 constexpr double gm_sun = constants::solar_gm_m3_s2;
 
-double rel(double a, double b) {
-    return std::abs(a - b) / std::abs(b);
-}
+double rel(double a, double b) { return std::abs(a - b) / std::abs(b); }
 } // namespace
 
 TEST_CASE("beta of a perfect absorber around the Sun", "[grain][beta]") {

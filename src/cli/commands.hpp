@@ -40,5 +40,8 @@ Format parse_format(const std::string& text);
 Command setup_eddington(CLI::App& app);
 Command setup_materials(CLI::App& app);
 Command setup_mie(CLI::App& app);
+Command setup_beta(CLI::App& app);
+Command setup_blowout(CLI::App& app);
+Command setup_temperature(CLI::App& app);
 
 } // namespace holdfast::cli

@@ -35,6 +35,9 @@ int main(int argc, char** argv) {
     commands.push_back(cli::setup_eddington(app));
     commands.push_back(cli::setup_materials(app));
     commands.push_back(cli::setup_mie(app));
+    commands.push_back(cli::setup_beta(app));
+    commands.push_back(cli::setup_blowout(app));
+    commands.push_back(cli::setup_temperature(app));
 
 
     try {

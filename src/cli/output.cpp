@@ -77,7 +77,10 @@ void table_section(std::string& out, const char* title, const std::vector<Entry>
         for (const auto& r : e.reprs) {
             if (!line.empty()) line += "  =  ";
             line += table_cell(r.value);
-            if (!r.unit.empty()) line += " " + r.unit;
+            const auto* list = std::get_if<std::vector<double>>(&r.value);
+            const bool no_number =
+                std::holds_alternative<std::monostate>(r.value) || (list && list->empty());
+            if (!r.unit.empty() && !no_number) line += " " + r.unit;
         }
         out += fmt::format("  {:<{}}  {}\n", e.label, width, line);
     }

@@ -5,11 +5,12 @@
 set -euo pipefail
 here="$(cd "$(dirname "$0")" && pwd)"
 holdfast="${HOLDFAST:-$here/../build/holdfast}"
-mkdir -p "$here/out"
+out="${HOLDFAST_EXAMPLES_OUT:-$here/out}"
+mkdir -p "$out"
 
 # Solar-mix gas (X = 0.7) is closer to what a neutron star accretes from a normal companion.
 "$holdfast" eddington --mass 1.6 Msun --hydrogen 0.7 \
     --flux 3.2e-9 erg/s/cm2 --distance 6.1 kpc --star-radius 11.5 km \
-    --format json --output "$here/out/04-tarn-x2.json"
+    --format json --output "$out/04-tarn-x2.json"
 "$holdfast" eddington --mass 1.6 Msun --hydrogen 0.7 \
     --flux 3.2e-9 erg/s/cm2 --distance 6.1 kpc --star-radius 11.5 km

@@ -1,0 +1,18 @@
+#!/usr/bin/env bash
+# How warm is dark, carbon-rich dust in and around Veyra's Hollow Ring (38 au), and inside
+# which distance would water ice mixed into such grains sublimate (taken here at 110 K, a
+# common choice for vacuum sublimation over astronomical times)? The shipped carbon-like
+# material has a constant index, so the thermal-infrared emission is only indicative.
+set -euo pipefail
+here="$(cd "$(dirname "$0")" && pwd)"
+holdfast="${HOLDFAST:-$here/../build/holdfast}"
+out="${HOLDFAST_EXAMPLES_OUT:-$here/out}"
+mkdir -p "$out"
+
+star=(--luminosity 0.34 Lsun --mass 0.78 Msun --teff 4900 K)
+
+"$holdfast" temperature "${star[@]}" --material carbon --grain-radius 10 um \
+    --distances 1au..100au --points 12 --sublimation-temperature 110 K \
+    --format csv --output "$out/03-ring-temperature.csv"
+"$holdfast" temperature "${star[@]}" --material carbon --grain-radius 10 um \
+    --distances 1au..100au --points 12 --sublimation-temperature 110 K

@@ -1,6 +1,6 @@
 """Runs every demo script in notebooks-free-examples/ and compares the files it writes with
 notebooks-free-examples/expected/. The expected files are our own regression baseline for an
-invented scenario (not an outside reference): a change beyond 1e-6 relative in any number
+invented scenario (not an outside reference): a change beyond 1e-4 relative in any number
 means the physics or the numerics changed, and the baseline must be regenerated on purpose
 (see DEVELOPERS.md)."""
 import csv
@@ -19,7 +19,9 @@ args = harness.options()
 checks = harness.Checks(args.binary)
 examples = pathlib.Path(args.source) / "notebooks-free-examples"
 expected_dir = examples / "expected"
-REL = 1e-6  # the spectral quadrature runs at 1e-6 relative tolerance by default
+# 1e-4: the accuracy holdfast states for spectral means; tighter would fail on rounding
+# differences between CPUs (FMA or not) that steer the adaptive quadrature differently.
+REL = 1e-4
 
 
 def same(a, b, where):

@@ -141,6 +141,9 @@ void add_material_options(CLI::App& app, MaterialOptions& o) {
     app.add_option("--nk", o.nk,
                    "Optical constants from a file instead: columns wavelength_um n k (.txt) or a "
                    "refractiveindex.info .yml entry (needs --density)");
+    app.add_flag("--clip-negative-k", o.clip_negative_k,
+                 "Accept rows of the --nk file with k < 0 (measurement noise in some published "
+                 "tables) by setting k = 0 there; without it such a file is refused");
     app.add_option("--out-of-band", o.out_of_band,
                    "Where the optical constants do not cover the spectrum's band: 'refuse' "
                    "(default), 'hold' (use the end values) or 'limit-band' (integrate only "
@@ -202,13 +205,18 @@ ResolvedMaterial resolve_material(const MaterialOptions& o) {
                 "constant index " + format_index(m) + " at all wavelengths"};
     } else if (!o.nk.empty()) {
         require_file("--nk", o.nk);
+        std::vector<std::string> nk_notes;
         try {
-            core.optics = tabulated_index(read_nk_file(o.nk));
+            NkTable table = read_nk_file(
+                o.nk, o.clip_negative_k ? NegativeK::clip_to_zero : NegativeK::refuse);
+            nk_notes = table.notes; // e.g. how many k < 0 rows were clipped
+            core.optics = tabulated_index(std::move(table));
         } catch (const InputError& e) {
             throw DataFileError(std::string("--nk: ") + e.what());
         }
         core.name = "optical constants from " + o.nk;
         core.limits = "optical constants interpolated from " + o.nk;
+        for (const auto& note : nk_notes) core.limits += "; " + note;
     } else {
         core = shipped(o.material.empty() ? "silicate" : o.material, "--material");
     }

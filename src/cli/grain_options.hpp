@@ -42,6 +42,7 @@ struct MaterialOptions {
     std::string material; // --material NAME (default "silicate")
     std::string index;    // --index 1.7+0.03i
     std::string nk;       // --nk FILE
+    bool clip_negative_k = false; // --clip-negative-k
     std::string out_of_band = "refuse";
     Words density; // --density
     std::string porosity = "0";

@@ -167,37 +167,349 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
     return sums.finish(x);
 }
 
-// x >= small_x_limit: BH eq. (4.88) with D_n(mx) downward and psi_n, chi_n upward.
-MieEfficiencies sphere_large(cplx m, double x, int n_terms) {
-    // One buffer per thread, grown to the largest N met so far: no allocation per call.
-    thread_local std::vector<cplx> d_buffer;
-    if (d_buffer.size() < static_cast<std::size_t>(n_terms) + 1)
-        d_buffer.resize(static_cast<std::size_t>(n_terms) + 1);
-    cplx* d = d_buffer.data();
-    detail::log_derivative_downward(m * x, n_terms, d);
+// ---- x >= small_x_limit: BH eq. (4.88) with D_n(mx) downward, psi_n and chi_n upward -------
+//
+// The kernel runs in passes over buffers instead of one loop over n, so that most of the
+// work has no dependency from one n to the next and vectorises:
+//  1. D_n(mx), n = 0..N, by the downward recurrence (log_derivative_lanes);
+//  2. psi_n(x), chi_n(x), n = 0..N, upward (riccati_upward; a serial chain, but short);
+//  3. a_n, b_n and the efficiency sums (coefficient_sums), independent in n;
+//  4. the pair sum of g Q_sca, which needs a_{n-1} next to a_n (pair_sums).
+// The arithmetic is written on real and imaginary parts (structure of arrays) because the
+// vectoriser does not see through std::complex, and the reductions use `omp simd` (with
+// -fopenmp-simd: no OpenMP runtime) because without -ffast-math the compiler must not
+// reorder a sum by itself; the reordered partial sums differ from the serial ones by
+// rounding only.
 
-    const cplx inv_m = 1.0 / m;
-    const double inv_x = 1.0 / x;
-    double psi_prev = std::sin(x);
-    double chi_prev = std::cos(x);
-    double psi = psi_prev * inv_x - chi_prev; // psi_1
-    double chi = chi_prev * inv_x + psi_prev; // chi_1
-    detail::MieSums sums;
-    for (int n = 1; n <= n_terms; ++n) {
-        const double nx = n * inv_x;
-        const cplx ga = d[n] * inv_m + nx;
-        const cplx gb = m * d[n] + nx;
-        sums.add(n, detail::coefficient(ga, ga * psi - psi_prev, chi, chi_prev),
-                 detail::coefficient(gb, gb * psi - psi_prev, chi, chi_prev));
-        const double f = (2.0 * n + 1.0) * inv_x;
-        const double psi_next = f * psi - psi_prev;
-        const double chi_next = f * chi - chi_prev;
-        psi_prev = psi;
-        psi = psi_next;
-        chi_prev = chi;
-        chi = chi_next;
+// Built for the baseline x86-64 and again for x86-64-v3 (AVX2 and FMA); the loader picks
+// the version the CPU can run (GCC function multiversioning through an ifunc), so the
+// binary stays portable. FMA rounds a*b+c once instead of twice: the results change in the
+// last bits only (tests/mie_reference_test.cpp holds both versions to the same 1e-9).
+#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) && defined(__ELF__)
+#define HOLDFAST_MIE_MULTIVERSION __attribute__((target_clones("arch=x86-64-v3", "default")))
+#else
+#define HOLDFAST_MIE_MULTIVERSION
+#endif
+#define HOLDFAST_MIE_INLINE [[gnu::always_inline]] inline
+
+// Downward recurrence in lanes. The linear form psi_{n-1} = a_n psi_n - psi_{n+1},
+// a_n = (2n+1)/z (see detail::log_derivative_downward) is one long dependency chain, and
+// its latency (two dependent multiply-adds per step, about 3 ns) would dominate the whole
+// series. Being linear, it can be cut into `lanes` segments that run side by side:
+//  A. every segment's 2x2 transfer matrix, from the two unit start vectors (lanes in
+//     parallel);
+//  B. the true start vector of each segment, by applying the matrices from the top down
+//     (a handful of serial matrix-vector products);
+//  C. each segment again from its true start, now forming D_{n-1} = n/z - psi_n/psi_{n-1}
+//     (lanes in parallel).
+// In exact arithmetic this is the same recurrence from the same start; in floating point
+// each step still rounds relative to the size of the dominant (downward growing) solution,
+// which is what keeps the plain recurrence stable. Common factors are irrelevant to D_n, so
+// each lane is rescaled by an exact power of two when it grows (checked every
+// `rescale_every` steps: a step grows a vector by at most |a_n| + 1 < 400 here, so 8 steps
+// from below `big` stay far from overflow, also when squared in |psi_{n-1}|^2).
+constexpr int lanes = 8;
+constexpr int rescale_every = 8;
+constexpr double big = 0x1p+300;   // ~2e90
+constexpr double shrink = 0x1p-300; // exact inverse of big
+
+// Vectors of one complex 2-vector (psi_{n+1}, psi_n) per lane.
+struct LaneVectors {
+    double up_re[lanes], up_im[lanes], cur_re[lanes], cur_im[lanes];
+};
+
+// Transfer matrix of each lane: psi vector at the bottom = T (psi_{top+1}, psi_top).
+// Column 1 is the image of (1, 0), column 2 that of (0, 1).
+struct LaneMatrices {
+    LaneVectors col1, col2;
+};
+
+// Lane j covers the steps n = n_lo + (j+1) steps - 1 down to n_lo + j steps.
+HOLDFAST_MIE_INLINE void transfer_matrices(double iz_re, double iz_im, int n_lo, int steps,
+                                           LaneMatrices& t) {
+    double nd[lanes];
+    for (int j = 0; j < lanes; ++j) {
+        nd[j] = n_lo + (j + 1) * steps - 1;
+        t.col1.up_re[j] = 1.0;
+        t.col1.up_im[j] = 0.0;
+        t.col1.cur_re[j] = 0.0;
+        t.col1.cur_im[j] = 0.0;
+        t.col2.up_re[j] = 0.0;
+        t.col2.up_im[j] = 0.0;
+        t.col2.cur_re[j] = 1.0;
+        t.col2.cur_im[j] = 0.0;
     }
-    return sums.finish(x);
+    for (int s = 0; s < steps; ++s) {
+        for (int j = 0; j < lanes; ++j) {
+            const double f = 2.0 * nd[j] + 1.0;
+            const double a_re = f * iz_re;
+            const double a_im = f * iz_im;
+            const double l1_re = a_re * t.col1.cur_re[j] - a_im * t.col1.cur_im[j] - t.col1.up_re[j];
+            const double l1_im = a_re * t.col1.cur_im[j] + a_im * t.col1.cur_re[j] - t.col1.up_im[j];
+            const double l2_re = a_re * t.col2.cur_re[j] - a_im * t.col2.cur_im[j] - t.col2.up_re[j];
+            const double l2_im = a_re * t.col2.cur_im[j] + a_im * t.col2.cur_re[j] - t.col2.up_im[j];
+            t.col1.up_re[j] = t.col1.cur_re[j];
+            t.col1.up_im[j] = t.col1.cur_im[j];
+            t.col2.up_re[j] = t.col2.cur_re[j];
+            t.col2.up_im[j] = t.col2.cur_im[j];
+            t.col1.cur_re[j] = l1_re;
+            t.col1.cur_im[j] = l1_im;
+            t.col2.cur_re[j] = l2_re;
+            t.col2.cur_im[j] = l2_im;
+            nd[j] -= 1.0;
+        }
+        if (s % rescale_every == rescale_every - 1) {
+            for (int j = 0; j < lanes; ++j) {
+                const double size = std::max(
+                    std::max(std::max(std::abs(t.col1.up_re[j]), std::abs(t.col1.up_im[j])),
+                             std::max(std::abs(t.col1.cur_re[j]), std::abs(t.col1.cur_im[j]))),
+                    std::max(std::max(std::abs(t.col2.up_re[j]), std::abs(t.col2.up_im[j])),
+                             std::max(std::abs(t.col2.cur_re[j]), std::abs(t.col2.cur_im[j]))));
+                const double g = size > big ? shrink : 1.0;
+                t.col1.up_re[j] *= g;
+                t.col1.up_im[j] *= g;
+                t.col1.cur_re[j] *= g;
+                t.col1.cur_im[j] *= g;
+                t.col2.up_re[j] *= g;
+                t.col2.up_im[j] *= g;
+                t.col2.cur_re[j] *= g;
+                t.col2.cur_im[j] *= g;
+            }
+        }
+    }
+}
+
+// v <- T_j v for lane j's matrix, then scaled to a largest component of 1 (only the
+// direction matters).
+HOLDFAST_MIE_INLINE void apply_transfer(const LaneMatrices& t, int j, cplx& up, cplx& cur) {
+    const cplx c1_up(t.col1.up_re[j], t.col1.up_im[j]);
+    const cplx c1_cur(t.col1.cur_re[j], t.col1.cur_im[j]);
+    const cplx c2_up(t.col2.up_re[j], t.col2.up_im[j]);
+    const cplx c2_cur(t.col2.cur_re[j], t.col2.cur_im[j]);
+    const cplx new_up = c1_up * up + c2_up * cur;
+    const cplx new_cur = c1_cur * up + c2_cur * cur;
+    const double size = std::max(std::max(std::abs(new_up.real()), std::abs(new_up.imag())),
+                                 std::max(std::abs(new_cur.real()), std::abs(new_cur.imag())));
+    up = new_up / size;
+    cur = new_cur / size;
+}
+
+// D_n(z) for n = 0..lanes*steps - 1 into d_re, d_im (the caller needs n = 0..n_terms, so
+// lanes*steps > n_terms), from the start n_start >= downward_start(|z|, n_terms) with the
+// usual arbitrary psi_{n_start+1} = 0, psi_{n_start} = 1.
+HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx z, int n_terms, double* d_re, double* d_im) {
+    const cplx inv_z = 1.0 / z;
+    const double iz_re = inv_z.real();
+    const double iz_im = inv_z.imag();
+    const int stored_steps = (n_terms + 1 + lanes - 1) / lanes; // steps n = 1..lanes*stored
+    const int stored_top = lanes * stored_steps;
+    const int start = detail::downward_start(std::abs(z), n_terms);
+    const int free_steps = std::max(1, (start - stored_top + lanes - 1) / lanes);
+
+    // A and B above the stored range: only the vector at its top is needed.
+    LaneMatrices t;
+    transfer_matrices(iz_re, iz_im, stored_top + 1, free_steps, t);
+    cplx up(0.0, 0.0);
+    cplx cur(1.0, 0.0);
+    for (int j = lanes - 1; j >= 0; --j)
+        apply_transfer(t, j, up, cur);
+
+    // A and B over the stored range: the start vector of every lane.
+    transfer_matrices(iz_re, iz_im, 1, stored_steps, t);
+    LaneVectors v;
+    for (int j = lanes - 1; j >= 0; --j) {
+        v.up_re[j] = up.real();
+        v.up_im[j] = up.imag();
+        v.cur_re[j] = cur.real();
+        v.cur_im[j] = cur.imag();
+        if (j > 0) apply_transfer(t, j, up, cur);
+    }
+
+    // C: D_{n-1} = n/z - psi_n / psi_{n-1} (psi_{n-1}' = (n/z) psi_{n-1} - psi_n), the division
+    // written as multiplication by the conjugate over |psi_{n-1}|^2: one real division.
+    double nd[lanes];
+    for (int j = 0; j < lanes; ++j)
+        nd[j] = (j + 1) * stored_steps;
+    for (int s = 0; s < stored_steps; ++s) {
+        for (int j = 0; j < lanes; ++j) {
+            const double f = 2.0 * nd[j] + 1.0;
+            const double a_re = f * iz_re;
+            const double a_im = f * iz_im;
+            const double lo_re = a_re * v.cur_re[j] - a_im * v.cur_im[j] - v.up_re[j];
+            const double lo_im = a_re * v.cur_im[j] + a_im * v.cur_re[j] - v.up_im[j];
+            const double inv = 1.0 / (lo_re * lo_re + lo_im * lo_im);
+            const double q_re = (v.cur_re[j] * lo_re + v.cur_im[j] * lo_im) * inv;
+            const double q_im = (v.cur_im[j] * lo_re - v.cur_re[j] * lo_im) * inv;
+            const int n = (j + 1) * stored_steps - s;
+            d_re[n - 1] = nd[j] * iz_re - q_re;
+            d_im[n - 1] = nd[j] * iz_im - q_im;
+            v.up_re[j] = v.cur_re[j];
+            v.up_im[j] = v.cur_im[j];
+            v.cur_re[j] = lo_re;
+            v.cur_im[j] = lo_im;
+            nd[j] -= 1.0;
+        }
+        if (s % rescale_every == rescale_every - 1) {
+            for (int j = 0; j < lanes; ++j) {
+                const double size =
+                    std::max(std::max(std::abs(v.up_re[j]), std::abs(v.up_im[j])),
+                             std::max(std::abs(v.cur_re[j]), std::abs(v.cur_im[j])));
+                const double g = size > big ? shrink : 1.0;
+                v.up_re[j] *= g;
+                v.up_im[j] *= g;
+                v.cur_re[j] *= g;
+                v.cur_im[j] *= g;
+            }
+        }
+    }
+}
+
+// psi_n(x), chi_n(x) for n = 0..n_terms, upward (Wiscombe 1980; stable for chi_n, and for
+// psi_n as far as the series needs it when x >= small_x_limit).
+HOLDFAST_MIE_INLINE void riccati_upward(double x, int n_terms, double* psi, double* chi) {
+    const double inv_x = 1.0 / x;
+    psi[0] = std::sin(x);
+    chi[0] = std::cos(x);
+    psi[1] = psi[0] * inv_x - chi[0];
+    chi[1] = chi[0] * inv_x + psi[0];
+    for (int n = 1; n < n_terms; ++n) {
+        const double f = (2.0 * n + 1.0) * inv_x;
+        psi[n + 1] = f * psi[n] - psi[n - 1];
+        chi[n + 1] = f * chi[n] - chi[n - 1];
+    }
+}
+
+struct SeriesSums {
+    double ext = 0.0, sca = 0.0, abs = 0.0, cross = 0.0, pair = 0.0, back_re = 0.0, back_im = 0.0;
+};
+
+// a_n, b_n (BH eq. 4.88 through detail::coefficient, written out on real and imaginary parts)
+// into a_re..b_im, and the sums of BH eqs. (4.61), (4.62), (4.74) and section 4.6 except the
+// pair term of g Q_sca. Differences from the one-term-at-a-time form, each a rounding-level
+// change: the two divisions share one reciprocal 1/(|den_a|^2 |den_b|^2); the weight
+// (2n+1)/(n(n+1)) of Re(a_n b_n*) is 1/n + 1/(n+1) from a table.
+HOLDFAST_MIE_INLINE void coefficient_sums(cplx m, double x, int n_terms, const double* d_re,
+                                          const double* d_im, const double* psi,
+                                          const double* chi, const double* inv_n, double* a_re,
+                                          double* a_im, double* b_re, double* b_im,
+                                          SeriesSums& s) {
+    const cplx inv_m = 1.0 / m;
+    const double m_re = m.real(), m_im = m.imag();
+    const double im_re = inv_m.real(), im_im = inv_m.imag();
+    const double inv_x = 1.0 / x;
+    double ext = 0.0, sca = 0.0, absorbed = 0.0, cross = 0.0, back_re = 0.0, back_im = 0.0;
+#pragma omp simd reduction(+ : ext, sca, absorbed, cross, back_re, back_im)
+    for (int n = 1; n <= n_terms; ++n) {
+        const double dn = n;
+        const double nx = dn * inv_x;
+        // G_a = D_n(mx)/m + n/x, G_b = m D_n(mx) + n/x.
+        const double ga_re = d_re[n] * im_re - d_im[n] * im_im + nx;
+        const double ga_im = d_re[n] * im_im + d_im[n] * im_re;
+        const double gb_re = m_re * d_re[n] - m_im * d_im[n] + nx;
+        const double gb_im = m_re * d_im[n] + m_im * d_re[n];
+        // P = G psi_n - psi_{n-1} (real psi), Q = G chi_n - chi_{n-1}, den = P - iQ.
+        const double pa_re = ga_re * psi[n] - psi[n - 1];
+        const double pa_im = ga_im * psi[n];
+        const double pb_re = gb_re * psi[n] - psi[n - 1];
+        const double pb_im = gb_im * psi[n];
+        const double da_re = pa_re + ga_im * chi[n];
+        const double da_im = pa_im - (ga_re * chi[n] - chi[n - 1]);
+        const double db_re = pb_re + gb_im * chi[n];
+        const double db_im = pb_im - (gb_re * chi[n] - chi[n - 1]);
+        const double sa = da_re * da_re + da_im * da_im;
+        const double sb = db_re * db_re + db_im * db_im;
+        const double r = 1.0 / (sa * sb);
+        const double ia = sb * r; // 1 / |den_a|^2
+        const double ib = sa * r; // 1 / |den_b|^2
+        const double ar = (pa_re * da_re + pa_im * da_im) * ia;
+        const double ai = (pa_im * da_re - pa_re * da_im) * ia;
+        const double br = (pb_re * db_re + pb_im * db_im) * ib;
+        const double bi = (pb_im * db_re - pb_re * db_im) * ib;
+        a_re[n] = ar;
+        a_im[n] = ai;
+        b_re[n] = br;
+        b_im[n] = bi;
+        const double w = 2.0 * dn + 1.0;
+        ext += w * (ar + br);
+        sca += w * (ar * ar + ai * ai + br * br + bi * bi);
+        // Re(c) - |c|^2 = -Im(G) / |den|^2 (Wronskian form, see detail::Coefficient).
+        absorbed += w * (-ga_im * ia - gb_im * ib);
+        cross += (inv_n[n] + inv_n[n + 1]) * (ar * br + ai * bi);
+        const double sw = (n & 1) != 0 ? -w : w; // (-1)^n (2n+1)
+        back_re += sw * (ar - br);
+        back_im += sw * (ai - bi);
+    }
+    s.ext = ext;
+    s.sca = sca;
+    s.abs = absorbed;
+    s.cross = cross;
+    s.back_re = back_re;
+    s.back_im = back_im;
+}
+
+// sum over n of n(n+2)/(n+1) Re(a_n a*_{n+1} + b_n b*_{n+1}) (BH eq. 4.74), written for the
+// pair (n-1, n) with weight (n-1)(n+1)/n = n - 1/n; a_0 = b_0 = 0 are not stored, so n >= 2.
+HOLDFAST_MIE_INLINE double pair_sums(int n_terms, const double* inv_n, const double* a_re,
+                                     const double* a_im, const double* b_re, const double* b_im) {
+    double pair = 0.0;
+#pragma omp simd reduction(+ : pair)
+    for (int n = 2; n <= n_terms; ++n)
+        pair += (n - inv_n[n]) * (a_re[n - 1] * a_re[n] + a_im[n - 1] * a_im[n] +
+                                  b_re[n - 1] * b_re[n] + b_im[n - 1] * b_im[n]);
+    return pair;
+}
+
+// Per-thread buffers, grown to the largest N met so far: no allocation per call. The table
+// 1/n is filled once per size.
+struct SeriesBuffers {
+    std::vector<double> storage;
+    std::vector<double> inv_n;
+    std::size_t stride = 0;
+};
+
+HOLDFAST_MIE_MULTIVERSION
+MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms, double* buf,
+                                    std::size_t stride, const double* inv_n) {
+    double* d_re = buf;
+    double* d_im = buf + stride;
+    double* psi = buf + 2 * stride;
+    double* chi = buf + 3 * stride;
+    double* a_re = buf + 4 * stride;
+    double* a_im = buf + 5 * stride;
+    double* b_re = buf + 6 * stride;
+    double* b_im = buf + 7 * stride;
+    log_derivative_lanes(m * x, n_terms, d_re, d_im);
+    riccati_upward(x, n_terms, psi, chi);
+    SeriesSums s;
+    coefficient_sums(m, x, n_terms, d_re, d_im, psi, chi, inv_n, a_re, a_im, b_re, b_im, s);
+    s.pair = pair_sums(n_terms, inv_n, a_re, a_im, b_re, b_im);
+
+    // As detail::MieSums::finish.
+    MieEfficiencies q;
+    const double f = 2.0 / (x * x);
+    q.q_ext = f * s.ext;
+    q.q_sca = f * s.sca;
+    q.q_abs = f * s.abs;
+    const double g_q_sca = 2.0 * f * (s.pair + s.cross);
+    q.q_back = (s.back_re * s.back_re + s.back_im * s.back_im) / (x * x);
+    q.g = q.q_sca > 0.0 ? g_q_sca / q.q_sca : 0.0;
+    q.q_pr = q.q_ext - g_q_sca;
+    return q;
+}
+
+MieEfficiencies sphere_large(cplx m, double x, int n_terms) {
+    thread_local SeriesBuffers b;
+    // Room for D_n up to lanes * ceil((N+1)/lanes) and psi_n, chi_n, a_n, b_n up to N.
+    const std::size_t need = static_cast<std::size_t>(n_terms) + lanes + 2;
+    if (b.stride < need) {
+        b.stride = need;
+        b.storage.assign(8 * need, 0.0);
+        b.inv_n.resize(need + 1);
+        b.inv_n[0] = 0.0;
+        for (std::size_t n = 1; n <= need; ++n)
+            b.inv_n[n] = 1.0 / static_cast<double>(n);
+    }
+    return sphere_large_kernel(m, x, n_terms, b.storage.data(), b.stride, b.inv_n.data());
 }
 
 void check_finite(const MieEfficiencies& q, cplx m, double x) {

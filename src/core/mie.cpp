@@ -30,7 +30,9 @@
 #include <algorithm>
 #include <array>
 #include <cmath>
+#include <cstdint>
 #include <cstdio>
+#include <cstring>
 #include <numbers>
 #include <vector>
 
@@ -208,96 +210,131 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 // each lane is rescaled by an exact power of two when it grows (checked every
 // `rescale_every` steps: a step grows a vector by at most |a_n| + 1 < 400 here, so 8 steps
 // from below `big` stay far from overflow, also when squared in |psi_{n-1}|^2).
-constexpr int lanes = 8;
 constexpr int rescale_every = 8;
-constexpr double big = 0x1p+300;   // ~2e90
+constexpr double big = 0x1p+300;    // ~2e90
 constexpr double shrink = 0x1p-300; // exact inverse of big
 
-// Vectors of one complex 2-vector (psi_{n+1}, psi_n) per lane.
-struct LaneVectors {
+// Lanes as GCC vector types of 4 doubles (one AVX2 register; two SSE2 ones in the baseline
+// version), two groups of them so that two independent chains hide each other's latency:
+// 8 lanes. Plain local vector variables, unlike arrays indexed in a loop or structs passed
+// around, stay in registers from one step to the next (GCC 12 spills the latter, and splits
+// wider vector types badly on AVX2).
+constexpr int width = 4;
+constexpr int groups = 2;
+constexpr int lanes = width * groups;
+using LaneVec = double __attribute__((vector_size(width * sizeof(double))));
+// The helpers below pass vectors by value but are always inlined: no ABI boundary. GCC
+// reports the ABI note at the end of the file, so it is switched off for the rest of it.
+#pragma GCC diagnostic ignored "-Wpsabi"
+
+using LaneBits = std::int64_t __attribute__((vector_size(width * sizeof(double))));
+// |v| by clearing the sign bits (one instruction, where a compare and select would be three).
+HOLDFAST_MIE_INLINE LaneVec lane_abs(LaneVec v) {
+    return reinterpret_cast<LaneVec>(reinterpret_cast<LaneBits>(v) & INT64_MAX);
+}
+HOLDFAST_MIE_INLINE LaneVec lane_max(LaneVec a, LaneVec b) { return a > b ? a : b; }
+HOLDFAST_MIE_INLINE LaneVec lane_max4(LaneVec a, LaneVec b, LaneVec c, LaneVec d) {
+    return lane_max(lane_max(lane_abs(a), lane_abs(b)), lane_max(lane_abs(c), lane_abs(d)));
+}
+// shrink in the lanes whose size passed big, 1 elsewhere.
+HOLDFAST_MIE_INLINE LaneVec lane_rescale(LaneVec size) {
+    const LaneVec one = LaneVec{} + 1.0;
+    return size > big ? one * shrink : one;
+}
+
+// Per lane j, one column of a transfer matrix or one state: (psi_{n+1}, psi_n).
+struct LaneArrays {
     double up_re[lanes], up_im[lanes], cur_re[lanes], cur_im[lanes];
 };
 
-// Transfer matrix of each lane: psi vector at the bottom = T (psi_{top+1}, psi_top).
-// Column 1 is the image of (1, 0), column 2 that of (0, 1).
-struct LaneMatrices {
-    LaneVectors col1, col2;
-};
-
-// Lane j covers the steps n = n_lo + (j+1) steps - 1 down to n_lo + j steps.
+// Transfer matrices of the lanes, as the images of the unit vectors (1, 0) and (0, 1) of
+// (psi_{top+1}, psi_top); lane j covers the steps n = n_lo + (j+1) steps - 1 down to
+// n_lo + j steps. Both columns share one rescaling per lane, so the matrix stays one matrix;
+// at the end each lane's matrix is scaled to a largest entry of 1.
 HOLDFAST_MIE_INLINE void transfer_matrices(double iz_re, double iz_im, int n_lo, int steps,
-                                           LaneMatrices& t) {
-    double nd[lanes];
-    for (int j = 0; j < lanes; ++j) {
-        nd[j] = n_lo + (j + 1) * steps - 1;
-        t.col1.up_re[j] = 1.0;
-        t.col1.up_im[j] = 0.0;
-        t.col1.cur_re[j] = 0.0;
-        t.col1.cur_im[j] = 0.0;
-        t.col2.up_re[j] = 0.0;
-        t.col2.up_im[j] = 0.0;
-        t.col2.cur_re[j] = 1.0;
-        t.col2.cur_im[j] = 0.0;
+                                           LaneArrays& col1, LaneArrays& col2) {
+    LaneVec nd[groups];
+    LaneVec u1r[groups], u1i[groups], c1r[groups], c1i[groups];
+    LaneVec u2r[groups], u2i[groups], c2r[groups], c2i[groups];
+    for (int g = 0; g < groups; ++g) {
+        for (int k = 0; k < width; ++k)
+            nd[g][k] = n_lo + (g * width + k + 1) * steps - 1;
+        u1r[g] = LaneVec{} + 1.0;
+        c2r[g] = LaneVec{} + 1.0;
+        u1i[g] = c1r[g] = c1i[g] = u2r[g] = u2i[g] = c2i[g] = LaneVec{};
     }
     for (int s = 0; s < steps; ++s) {
-        for (int j = 0; j < lanes; ++j) {
-            const double f = 2.0 * nd[j] + 1.0;
-            const double a_re = f * iz_re;
-            const double a_im = f * iz_im;
-            const double l1_re = a_re * t.col1.cur_re[j] - a_im * t.col1.cur_im[j] - t.col1.up_re[j];
-            const double l1_im = a_re * t.col1.cur_im[j] + a_im * t.col1.cur_re[j] - t.col1.up_im[j];
-            const double l2_re = a_re * t.col2.cur_re[j] - a_im * t.col2.cur_im[j] - t.col2.up_re[j];
-            const double l2_im = a_re * t.col2.cur_im[j] + a_im * t.col2.cur_re[j] - t.col2.up_im[j];
-            t.col1.up_re[j] = t.col1.cur_re[j];
-            t.col1.up_im[j] = t.col1.cur_im[j];
-            t.col2.up_re[j] = t.col2.cur_re[j];
-            t.col2.up_im[j] = t.col2.cur_im[j];
-            t.col1.cur_re[j] = l1_re;
-            t.col1.cur_im[j] = l1_im;
-            t.col2.cur_re[j] = l2_re;
-            t.col2.cur_im[j] = l2_im;
-            nd[j] -= 1.0;
+        for (int g = 0; g < groups; ++g) {
+            // psi_{n-1} = a_n psi_n - psi_{n+1}, a_n = (2n+1)/z, for both columns.
+            const LaneVec f = 2.0 * nd[g] + 1.0;
+            const LaneVec a_re = f * iz_re;
+            const LaneVec a_im = f * iz_im;
+            const LaneVec l1r = a_re * c1r[g] - a_im * c1i[g] - u1r[g];
+            const LaneVec l1i = a_re * c1i[g] + a_im * c1r[g] - u1i[g];
+            const LaneVec l2r = a_re * c2r[g] - a_im * c2i[g] - u2r[g];
+            const LaneVec l2i = a_re * c2i[g] + a_im * c2r[g] - u2i[g];
+            u1r[g] = c1r[g];
+            u1i[g] = c1i[g];
+            c1r[g] = l1r;
+            c1i[g] = l1i;
+            u2r[g] = c2r[g];
+            u2i[g] = c2i[g];
+            c2r[g] = l2r;
+            c2i[g] = l2i;
+            nd[g] -= 1.0;
         }
         if (s % rescale_every == rescale_every - 1) {
-            for (int j = 0; j < lanes; ++j) {
-                const double size = std::max(
-                    std::max(std::max(std::abs(t.col1.up_re[j]), std::abs(t.col1.up_im[j])),
-                             std::max(std::abs(t.col1.cur_re[j]), std::abs(t.col1.cur_im[j]))),
-                    std::max(std::max(std::abs(t.col2.up_re[j]), std::abs(t.col2.up_im[j])),
-                             std::max(std::abs(t.col2.cur_re[j]), std::abs(t.col2.cur_im[j]))));
-                const double g = size > big ? shrink : 1.0;
-                t.col1.up_re[j] *= g;
-                t.col1.up_im[j] *= g;
-                t.col1.cur_re[j] *= g;
-                t.col1.cur_im[j] *= g;
-                t.col2.up_re[j] *= g;
-                t.col2.up_im[j] *= g;
-                t.col2.cur_re[j] *= g;
-                t.col2.cur_im[j] *= g;
+            for (int g = 0; g < groups; ++g) {
+                const LaneVec h = lane_rescale(lane_max(lane_max4(u1r[g], u1i[g], c1r[g], c1i[g]),
+                                                        lane_max4(u2r[g], u2i[g], c2r[g], c2i[g])));
+                u1r[g] *= h;
+                u1i[g] *= h;
+                c1r[g] *= h;
+                c1i[g] *= h;
+                u2r[g] *= h;
+                u2i[g] *= h;
+                c2r[g] *= h;
+                c2i[g] *= h;
             }
+        }
+    }
+    for (int g = 0; g < groups; ++g) {
+        const LaneVec h = 1.0 / lane_max(lane_max4(u1r[g], u1i[g], c1r[g], c1i[g]),
+                                         lane_max4(u2r[g], u2i[g], c2r[g], c2i[g]));
+        for (int k = 0; k < width; ++k) {
+            const int j = g * width + k;
+            col1.up_re[j] = u1r[g][k] * h[k];
+            col1.up_im[j] = u1i[g][k] * h[k];
+            col1.cur_re[j] = c1r[g][k] * h[k];
+            col1.cur_im[j] = c1i[g][k] * h[k];
+            col2.up_re[j] = u2r[g][k] * h[k];
+            col2.up_im[j] = u2i[g][k] * h[k];
+            col2.cur_re[j] = c2r[g][k] * h[k];
+            col2.cur_im[j] = c2i[g][k] * h[k];
         }
     }
 }
 
-// v <- T_j v for lane j's matrix, then scaled to a largest component of 1 (only the
-// direction matters).
-HOLDFAST_MIE_INLINE void apply_transfer(const LaneMatrices& t, int j, cplx& up, cplx& cur) {
-    const cplx c1_up(t.col1.up_re[j], t.col1.up_im[j]);
-    const cplx c1_cur(t.col1.cur_re[j], t.col1.cur_im[j]);
-    const cplx c2_up(t.col2.up_re[j], t.col2.up_im[j]);
-    const cplx c2_cur(t.col2.cur_re[j], t.col2.cur_im[j]);
+// v <- T_j v for lane j's matrix (entries at most 1 in size). Only the direction of v
+// matters; T does not shrink v, which is the dominant solution, and the caller
+// normalises at the end.
+HOLDFAST_MIE_INLINE void apply_transfer(const LaneArrays& col1, const LaneArrays& col2, int j,
+                                        cplx& up, cplx& cur) {
+    const cplx c1_up(col1.up_re[j], col1.up_im[j]);
+    const cplx c1_cur(col1.cur_re[j], col1.cur_im[j]);
+    const cplx c2_up(col2.up_re[j], col2.up_im[j]);
+    const cplx c2_cur(col2.cur_re[j], col2.cur_im[j]);
     const cplx new_up = c1_up * up + c2_up * cur;
-    const cplx new_cur = c1_cur * up + c2_cur * cur;
-    const double size = std::max(std::max(std::abs(new_up.real()), std::abs(new_up.imag())),
-                                 std::max(std::abs(new_cur.real()), std::abs(new_cur.imag())));
-    up = new_up / size;
-    cur = new_cur / size;
+    cur = c1_cur * up + c2_cur * cur;
+    up = new_up;
 }
 
 // D_n(z) for n = 0..lanes*steps - 1 into d_re, d_im (the caller needs n = 0..n_terms, so
 // lanes*steps > n_terms), from the start n_start >= downward_start(|z|, n_terms) with the
-// usual arbitrary psi_{n_start+1} = 0, psi_{n_start} = 1.
-HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx z, int n_terms, double* d_re, double* d_im) {
+// usual arbitrary psi_{n_start+1} = 0, psi_{n_start} = 1. `scratch` holds 2 lanes*steps
+// values.
+HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx z, int n_terms, double* d_re, double* d_im,
+                                              double* scratch) {
     const cplx inv_z = 1.0 / z;
     const double iz_re = inv_z.real();
     const double iz_im = inv_z.imag();
@@ -307,75 +344,120 @@ HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx z, int n_terms, double* d_re,
     const int free_steps = std::max(1, (start - stored_top + lanes - 1) / lanes);
 
     // A and B above the stored range: only the vector at its top is needed.
-    LaneMatrices t;
-    transfer_matrices(iz_re, iz_im, stored_top + 1, free_steps, t);
+    LaneArrays col1;
+    LaneArrays col2;
+    transfer_matrices(iz_re, iz_im, stored_top + 1, free_steps, col1, col2);
     cplx up(0.0, 0.0);
     cplx cur(1.0, 0.0);
     for (int j = lanes - 1; j >= 0; --j)
-        apply_transfer(t, j, up, cur);
+        apply_transfer(col1, col2, j, up, cur);
 
     // A and B over the stored range: the start vector of every lane.
-    transfer_matrices(iz_re, iz_im, 1, stored_steps, t);
-    LaneVectors v;
+    transfer_matrices(iz_re, iz_im, 1, stored_steps, col1, col2);
+    LaneArrays start_of;
     for (int j = lanes - 1; j >= 0; --j) {
-        v.up_re[j] = up.real();
-        v.up_im[j] = up.imag();
-        v.cur_re[j] = cur.real();
-        v.cur_im[j] = cur.imag();
-        if (j > 0) apply_transfer(t, j, up, cur);
+        start_of.up_re[j] = up.real();
+        start_of.up_im[j] = up.imag();
+        start_of.cur_re[j] = cur.real();
+        start_of.cur_im[j] = cur.imag();
+        if (j > 0) apply_transfer(col1, col2, j, up, cur);
     }
 
     // C: D_{n-1} = n/z - psi_n / psi_{n-1} (psi_{n-1}' = (n/z) psi_{n-1} - psi_n), the division
     // written as multiplication by the conjugate over |psi_{n-1}|^2: one real division.
-    double nd[lanes];
-    for (int j = 0; j < lanes; ++j)
-        nd[j] = (j + 1) * stored_steps;
+    LaneVec nd[groups], ur[groups], ui[groups], cr[groups], ci[groups];
+    for (int g = 0; g < groups; ++g) {
+        for (int k = 0; k < width; ++k) {
+            const int j = g * width + k;
+            nd[g][k] = (j + 1) * stored_steps;
+            ur[g][k] = start_of.up_re[j];
+            ui[g][k] = start_of.up_im[j];
+            cr[g][k] = start_of.cur_re[j];
+            ci[g][k] = start_of.cur_im[j];
+        }
+        // Each lane to a largest component of 1 (they differ by the growth between them).
+        const LaneVec h = 1.0 / lane_max4(ur[g], ui[g], cr[g], ci[g]);
+        ur[g] *= h;
+        ui[g] *= h;
+        cr[g] *= h;
+        ci[g] *= h;
+    }
+    double* step_re = scratch;
+    double* step_im = scratch + lanes * stored_steps;
     for (int s = 0; s < stored_steps; ++s) {
-        for (int j = 0; j < lanes; ++j) {
-            const double f = 2.0 * nd[j] + 1.0;
-            const double a_re = f * iz_re;
-            const double a_im = f * iz_im;
-            const double lo_re = a_re * v.cur_re[j] - a_im * v.cur_im[j] - v.up_re[j];
-            const double lo_im = a_re * v.cur_im[j] + a_im * v.cur_re[j] - v.up_im[j];
-            const double inv = 1.0 / (lo_re * lo_re + lo_im * lo_im);
-            const double q_re = (v.cur_re[j] * lo_re + v.cur_im[j] * lo_im) * inv;
-            const double q_im = (v.cur_im[j] * lo_re - v.cur_re[j] * lo_im) * inv;
-            const int n = (j + 1) * stored_steps - s;
-            d_re[n - 1] = nd[j] * iz_re - q_re;
-            d_im[n - 1] = nd[j] * iz_im - q_im;
-            v.up_re[j] = v.cur_re[j];
-            v.up_im[j] = v.cur_im[j];
-            v.cur_re[j] = lo_re;
-            v.cur_im[j] = lo_im;
-            nd[j] -= 1.0;
+        for (int g = 0; g < groups; ++g) {
+            const LaneVec f = 2.0 * nd[g] + 1.0;
+            const LaneVec a_re = f * iz_re;
+            const LaneVec a_im = f * iz_im;
+            const LaneVec lo_re = a_re * cr[g] - a_im * ci[g] - ur[g];
+            const LaneVec lo_im = a_re * ci[g] + a_im * cr[g] - ui[g];
+            const LaneVec inv = 1.0 / (lo_re * lo_re + lo_im * lo_im);
+            const LaneVec q_re = (cr[g] * lo_re + ci[g] * lo_im) * inv;
+            const LaneVec q_im = (ci[g] * lo_re - cr[g] * lo_im) * inv;
+            const LaneVec dd_re = nd[g] * iz_re - q_re;
+            const LaneVec dd_im = nd[g] * iz_im - q_im;
+            // Stored in step order (lane j of step s at s * lanes + j), with whole-vector
+            // stores; put in n order below.
+            std::memcpy(step_re + s * lanes + g * width, &dd_re, sizeof dd_re);
+            std::memcpy(step_im + s * lanes + g * width, &dd_im, sizeof dd_im);
+            ur[g] = cr[g];
+            ui[g] = ci[g];
+            cr[g] = lo_re;
+            ci[g] = lo_im;
+            nd[g] -= 1.0;
         }
         if (s % rescale_every == rescale_every - 1) {
-            for (int j = 0; j < lanes; ++j) {
-                const double size =
-                    std::max(std::max(std::abs(v.up_re[j]), std::abs(v.up_im[j])),
-                             std::max(std::abs(v.cur_re[j]), std::abs(v.cur_im[j])));
-                const double g = size > big ? shrink : 1.0;
-                v.up_re[j] *= g;
-                v.up_im[j] *= g;
-                v.cur_re[j] *= g;
-                v.cur_im[j] *= g;
+            for (int g = 0; g < groups; ++g) {
+                const LaneVec h = lane_rescale(lane_max4(ur[g], ui[g], cr[g], ci[g]));
+                ur[g] *= h;
+                ui[g] *= h;
+                cr[g] *= h;
+                ci[g] *= h;
             }
+        }
+    }
+    // Lane j, step s holds D_{n-1} for n = (j+1) steps - s.
+    for (int j = 0; j < lanes; ++j) {
+        for (int s = 0; s < stored_steps; ++s) {
+            d_re[(j + 1) * stored_steps - 1 - s] = step_re[s * lanes + j];
+            d_im[(j + 1) * stored_steps - 1 - s] = step_im[s * lanes + j];
         }
     }
 }
 
 // psi_n(x), chi_n(x) for n = 0..n_terms, upward (Wiscombe 1980; stable for chi_n, and for
-// psi_n as far as the series needs it when x >= small_x_limit).
+// psi_n as far as the series needs it when x >= small_x_limit). This chain is serial; the
+// last two values are kept in locals so that each step waits for one multiply-add, not for
+// a store and reload through the buffer (which the compiler cannot rule out aliasing).
 HOLDFAST_MIE_INLINE void riccati_upward(double x, int n_terms, double* psi, double* chi) {
     const double inv_x = 1.0 / x;
-    psi[0] = std::sin(x);
-    chi[0] = std::cos(x);
-    psi[1] = psi[0] * inv_x - chi[0];
-    chi[1] = chi[0] * inv_x + psi[0];
-    for (int n = 1; n < n_terms; ++n) {
+    double psi_prev = std::sin(x);
+    double chi_prev = std::cos(x);
+    double psi_n = psi_prev * inv_x - chi_prev; // psi_1
+    double chi_n = chi_prev * inv_x + psi_prev; // chi_1
+    psi[0] = psi_prev;
+    chi[0] = chi_prev;
+    psi[1] = psi_n;
+    chi[1] = chi_n;
+    // Two steps per pass, each value overwritten in place (leapfrog), so no register moves
+    // sit in the chain either.
+    int n = 1;
+    for (; n + 1 < n_terms; n += 2) {
+        const double f1 = (2.0 * n + 1.0) * inv_x;
+        const double f2 = (2.0 * n + 3.0) * inv_x;
+        psi_prev = f1 * psi_n - psi_prev; // psi_{n+1}
+        chi_prev = f1 * chi_n - chi_prev;
+        psi_n = f2 * psi_prev - psi_n; // psi_{n+2}
+        chi_n = f2 * chi_prev - chi_n;
+        psi[n + 1] = psi_prev;
+        chi[n + 1] = chi_prev;
+        psi[n + 2] = psi_n;
+        chi[n + 2] = chi_n;
+    }
+    if (n < n_terms) { // one step left: psi_{n+1} from psi_n, psi_{n-1}
         const double f = (2.0 * n + 1.0) * inv_x;
-        psi[n + 1] = f * psi[n] - psi[n - 1];
-        chi[n + 1] = f * chi[n] - chi[n - 1];
+        psi[n + 1] = f * psi_n - psi_prev;
+        chi[n + 1] = f * chi_n - chi_prev;
     }
 }
 
@@ -478,7 +560,7 @@ MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms, double* buf,
     double* a_im = buf + 5 * stride;
     double* b_re = buf + 6 * stride;
     double* b_im = buf + 7 * stride;
-    log_derivative_lanes(m * x, n_terms, d_re, d_im);
+    log_derivative_lanes(m * x, n_terms, d_re, d_im, a_re); // a_re, a_im as scratch
     riccati_upward(x, n_terms, psi, chi);
     SeriesSums s;
     coefficient_sums(m, x, n_terms, d_re, d_im, psi, chi, inv_n, a_re, a_im, b_re, b_im, s);

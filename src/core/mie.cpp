@@ -194,6 +194,60 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 #endif
 #define HOLDFAST_MIE_INLINE [[gnu::always_inline]] inline
 
+// psi_n(x), chi_n(x) for n = 0..n_terms into psi, chi, upward (Wiscombe 1980; stable for
+// chi_n, and for psi_n as far as the series needs it when x >= small_x_limit). A serial
+// chain of one multiply-add per step: two steps per call, each value overwritten in place
+// (leapfrog) so that no register moves sit in the chain, and the last values kept in
+// locals rather than reloaded through the buffer.
+class UpwardRiccati {
+  public:
+    UpwardRiccati(double x, int n_terms, double* psi, double* chi)
+        : inv_x_(1.0 / x), n_terms_(n_terms), psi_(psi), chi_(chi) {
+        psi_prev_ = std::sin(x);
+        chi_prev_ = std::cos(x);
+        psi_n_ = psi_prev_ * inv_x_ - chi_prev_; // psi_1
+        chi_n_ = chi_prev_ * inv_x_ + psi_prev_; // chi_1
+        psi[0] = psi_prev_;
+        chi[0] = chi_prev_;
+        psi[1] = psi_n_;
+        chi[1] = chi_n_;
+    }
+    // From orders (n-1, n) to (n+1, n+2), while n + 2 <= n_terms.
+    HOLDFAST_MIE_INLINE void advance_two() {
+        if (n_ + 1 >= n_terms_) return;
+        const double f1 = (2.0 * n_ + 1.0) * inv_x_;
+        const double f2 = (2.0 * n_ + 3.0) * inv_x_;
+        psi_prev_ = f1 * psi_n_ - psi_prev_; // psi_{n+1}
+        chi_prev_ = f1 * chi_n_ - chi_prev_;
+        psi_n_ = f2 * psi_prev_ - psi_n_; // psi_{n+2}
+        chi_n_ = f2 * chi_prev_ - chi_n_;
+        psi_[n_ + 1] = psi_prev_;
+        chi_[n_ + 1] = chi_prev_;
+        psi_[n_ + 2] = psi_n_;
+        chi_[n_ + 2] = chi_n_;
+        n_ += 2;
+    }
+    // The rest up to n_terms.
+    HOLDFAST_MIE_INLINE void finish() {
+        while (n_ + 1 < n_terms_)
+            advance_two();
+        if (n_ < n_terms_) { // one step left: psi_{n+1} from psi_n, psi_{n-1}
+            const double f = (2.0 * n_ + 1.0) * inv_x_;
+            psi_[n_ + 1] = f * psi_n_ - psi_prev_;
+            chi_[n_ + 1] = f * chi_n_ - chi_prev_;
+            n_ = n_terms_;
+        }
+    }
+
+  private:
+    double inv_x_;
+    int n_terms_;
+    double* psi_;
+    double* chi_;
+    int n_ = 1;
+    double psi_prev_, chi_prev_, psi_n_, chi_n_;
+};
+
 // Downward recurrence in lanes. The linear form psi_{n-1} = a_n psi_n - psi_{n+1},
 // a_n = (2n+1)/z (see detail::log_derivative_downward) is one long dependency chain, and
 // its latency (two dependent multiply-adds per step, about 3 ns) would dominate the whole
@@ -251,8 +305,12 @@ struct LaneArrays {
 // (psi_{top+1}, psi_top); lane j covers the steps n = n_lo + (j+1) steps - 1 down to
 // n_lo + j steps. Both columns share one rescaling per lane, so the matrix stays one matrix;
 // at the end each lane's matrix is scaled to a largest entry of 1.
+// `side_work()` is called once per step: independent serial work placed here runs in the
+// shadow of the lanes' arithmetic (out-of-order execution overlaps the two).
+template <class SideWork>
 HOLDFAST_MIE_INLINE void transfer_matrices(double iz_re, double iz_im, int n_lo, int steps,
-                                           LaneArrays& col1, LaneArrays& col2) {
+                                           LaneArrays& col1, LaneArrays& col2,
+                                           SideWork&& side_work) {
     LaneVec nd[groups];
     LaneVec u1r[groups], u1i[groups], c1r[groups], c1i[groups];
     LaneVec u2r[groups], u2i[groups], c2r[groups], c2i[groups];
@@ -264,6 +322,7 @@ HOLDFAST_MIE_INLINE void transfer_matrices(double iz_re, double iz_im, int n_lo,
         u1i[g] = c1r[g] = c1i[g] = u2r[g] = u2i[g] = c2i[g] = LaneVec{};
     }
     for (int s = 0; s < steps; ++s) {
+        side_work();
         for (int g = 0; g < groups; ++g) {
             // psi_{n-1} = a_n psi_n - psi_{n+1}, a_n = (2n+1)/z, for both columns.
             const LaneVec f = 2.0 * nd[g] + 1.0;
@@ -330,30 +389,33 @@ HOLDFAST_MIE_INLINE void apply_transfer(const LaneArrays& col1, const LaneArrays
 }
 
 // D_n(z) for n = 0..lanes*steps - 1 into d_re, d_im (the caller needs n = 0..n_terms, so
-// lanes*steps > n_terms), from the start n_start >= downward_start(|z|, n_terms) with the
-// usual arbitrary psi_{n_start+1} = 0, psi_{n_start} = 1. `scratch` holds 2 lanes*steps
-// values.
-HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx z, int n_terms, double* d_re, double* d_im,
-                                              double* scratch) {
-    const cplx inv_z = 1.0 / z;
+// lanes*steps > n_terms), from a start at or above `start` (= downward_start(|z|, n_terms))
+// with the usual arbitrary psi_{n_start+1} = 0, psi_{n_start} = 1. `scratch` holds
+// 2 lanes*steps values. The serial psi_n(x), chi_n(x) recurrence rides along (`riccati`).
+HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx inv_z, int start, int n_terms, double* d_re,
+                                              double* d_im, double* scratch,
+                                              UpwardRiccati& riccati) {
     const double iz_re = inv_z.real();
     const double iz_im = inv_z.imag();
     const int stored_steps = (n_terms + 1 + lanes - 1) / lanes; // steps n = 1..lanes*stored
     const int stored_top = lanes * stored_steps;
-    const int start = detail::downward_start(std::abs(z), n_terms);
     const int free_steps = std::max(1, (start - stored_top + lanes - 1) / lanes);
 
     // A and B above the stored range: only the vector at its top is needed.
     LaneArrays col1;
     LaneArrays col2;
-    transfer_matrices(iz_re, iz_im, stored_top + 1, free_steps, col1, col2);
+    transfer_matrices(iz_re, iz_im, stored_top + 1, free_steps, col1, col2, [] {});
     cplx up(0.0, 0.0);
     cplx cur(1.0, 0.0);
     for (int j = lanes - 1; j >= 0; --j)
         apply_transfer(col1, col2, j, up, cur);
 
     // A and B over the stored range: the start vector of every lane.
-    transfer_matrices(iz_re, iz_im, 1, stored_steps, col1, col2);
+    // lanes * stored_steps > n_terms steps of the upward recurrence fit in here.
+    transfer_matrices(iz_re, iz_im, 1, stored_steps, col1, col2, [&riccati] {
+        for (int i = 0; i < lanes / 2; ++i)
+            riccati.advance_two();
+    });
     LaneArrays start_of;
     for (int j = lanes - 1; j >= 0; --j) {
         start_of.up_re[j] = up.real();
@@ -425,39 +487,41 @@ HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx z, int n_terms, double* d_re,
     }
 }
 
-// psi_n(x), chi_n(x) for n = 0..n_terms, upward (Wiscombe 1980; stable for chi_n, and for
-// psi_n as far as the series needs it when x >= small_x_limit). This chain is serial; the
-// last two values are kept in locals so that each step waits for one multiply-add, not for
-// a store and reload through the buffer (which the compiler cannot rule out aliasing).
-HOLDFAST_MIE_INLINE void riccati_upward(double x, int n_terms, double* psi, double* chi) {
-    const double inv_x = 1.0 / x;
-    double psi_prev = std::sin(x);
-    double chi_prev = std::cos(x);
-    double psi_n = psi_prev * inv_x - chi_prev; // psi_1
-    double chi_n = chi_prev * inv_x + psi_prev; // chi_1
-    psi[0] = psi_prev;
-    chi[0] = chi_prev;
-    psi[1] = psi_n;
-    chi[1] = chi_n;
-    // Two steps per pass, each value overwritten in place (leapfrog), so no register moves
-    // sit in the chain either.
-    int n = 1;
-    for (; n + 1 < n_terms; n += 2) {
-        const double f1 = (2.0 * n + 1.0) * inv_x;
-        const double f2 = (2.0 * n + 3.0) * inv_x;
-        psi_prev = f1 * psi_n - psi_prev; // psi_{n+1}
-        chi_prev = f1 * chi_n - chi_prev;
-        psi_n = f2 * psi_prev - psi_n; // psi_{n+2}
-        chi_n = f2 * chi_prev - chi_n;
-        psi[n + 1] = psi_prev;
-        chi[n + 1] = chi_prev;
-        psi[n + 2] = psi_n;
-        chi[n + 2] = chi_n;
-    }
-    if (n < n_terms) { // one step left: psi_{n+1} from psi_n, psi_{n-1}
-        const double f = (2.0 * n + 1.0) * inv_x;
-        psi[n + 1] = f * psi_n - psi_prev;
-        chi[n + 1] = f * chi_n - chi_prev;
+// Below this many steps the lanes' fixed cost (two sets of matrices, the serial
+// matrix-vector products, the reordering) outweighs their gain over the plain chain.
+constexpr int serial_max_steps = 96;
+
+// The plain serial recurrence for D_n, n = 0..n_terms (the form of
+// detail::log_derivative_downward on real and imaginary parts).
+HOLDFAST_MIE_INLINE void log_derivative_serial(cplx inv_z, int start, int n_terms, double* d_re,
+                                               double* d_im, UpwardRiccati& riccati) {
+    const double iz_re = inv_z.real();
+    const double iz_im = inv_z.imag();
+    double up_re = 0.0, up_im = 0.0, cur_re = 1.0, cur_im = 0.0;
+    for (int n = start; n >= 1; --n) {
+        // The upward psi_n(x), chi_n(x) chain is independent: interleaved here, its latency
+        // hides in this one's (start > n_terms, so it completes).
+        if ((n & 1) == 0) riccati.advance_two();
+        const double f = 2.0 * n + 1.0;
+        const double a_re = f * iz_re;
+        const double a_im = f * iz_im;
+        const double lo_re = a_re * cur_re - a_im * cur_im - up_re;
+        const double lo_im = a_re * cur_im + a_im * cur_re - up_im;
+        if (n - 1 <= n_terms) {
+            const double inv = 1.0 / (lo_re * lo_re + lo_im * lo_im);
+            d_re[n - 1] = n * iz_re - (cur_re * lo_re + cur_im * lo_im) * inv;
+            d_im[n - 1] = n * iz_im - (cur_im * lo_re - cur_re * lo_im) * inv;
+        }
+        up_re = cur_re;
+        up_im = cur_im;
+        cur_re = lo_re;
+        cur_im = lo_im;
+        if (std::max(std::abs(cur_re), std::abs(cur_im)) > big) {
+            up_re *= shrink;
+            up_im *= shrink;
+            cur_re *= shrink;
+            cur_im *= shrink;
+        }
     }
 }
 
@@ -560,8 +624,15 @@ MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms, double* buf,
     double* a_im = buf + 5 * stride;
     double* b_re = buf + 6 * stride;
     double* b_im = buf + 7 * stride;
-    log_derivative_lanes(m * x, n_terms, d_re, d_im, a_re); // a_re, a_im as scratch
-    riccati_upward(x, n_terms, psi, chi);
+    const cplx z = m * x;
+    const cplx inv_z = 1.0 / z;
+    const int start = detail::downward_start(std::abs(z), n_terms);
+    UpwardRiccati riccati(x, n_terms, psi, chi);
+    if (start <= serial_max_steps)
+        log_derivative_serial(inv_z, start, n_terms, d_re, d_im, riccati);
+    else
+        log_derivative_lanes(inv_z, start, n_terms, d_re, d_im, a_re, riccati); // a_*: scratch
+    riccati.finish();
     SeriesSums s;
     coefficient_sums(m, x, n_terms, d_re, d_im, psi, chi, inv_n, a_re, a_im, b_re, b_im, s);
     s.pair = pair_sums(n_terms, inv_n, a_re, a_im, b_re, b_im);

@@ -529,25 +529,63 @@ struct SeriesSums {
     double ext = 0.0, sca = 0.0, abs = 0.0, cross = 0.0, pair = 0.0, back_re = 0.0, back_im = 0.0;
 };
 
+// The n-dependent weights of the sums, per thread, computed once for the largest N met:
+// with them the loops below convert no integers (which would also make the vectoriser
+// process 8 terms at once and run out of registers). Each weight is formed as in
+// detail::MieSums::add.
+struct SeriesWeights {
+    std::vector<double> n;      // n
+    std::vector<double> w;      // 2n + 1, BH eqs. (4.61), (4.62)
+    std::vector<double> w_alt;  // (-1)^n (2n + 1), backscattering (BH section 4.6)
+    std::vector<double> w_ab;   // (2n + 1)/(n(n + 1)), Re(a_n b_n*) in BH eq. (4.74)
+    std::vector<double> w_pair; // (n - 1)(n + 1)/n, Re(a_{n-1} a_n* + b_{n-1} b_n*), (4.74)
+
+    void grow(std::size_t size) {
+        if (n.size() >= size) return;
+        n.resize(size);
+        w.resize(size);
+        w_alt.resize(size);
+        w_ab.resize(size);
+        w_pair.resize(size);
+        n[0] = w[0] = w_alt[0] = w_ab[0] = w_pair[0] = 0.0; // no n = 0 term
+        for (std::size_t i = 1; i < size; ++i) {
+            const double dn = static_cast<double>(i);
+            const double inv = 1.0 / (dn * (dn + 1.0));
+            n[i] = dn;
+            w[i] = 2.0 * dn + 1.0;
+            w_alt[i] = i % 2 == 1 ? -w[i] : w[i];
+            w_ab[i] = w[i] * inv;
+            w_pair[i] = (dn - 1.0) * (dn + 1.0) * (dn + 1.0) * inv;
+        }
+    }
+};
+
+// Pointers into SeriesWeights for the kernel (plain pointers: no aliasing questions).
+struct WeightTables {
+    const double *n, *w, *w_alt, *w_ab, *w_pair;
+};
+
 // a_n, b_n (BH eq. 4.88 through detail::coefficient, written out on real and imaginary parts)
 // into a_re..b_im, and the sums of BH eqs. (4.61), (4.62), (4.74) and section 4.6 except the
-// pair term of g Q_sca. Differences from the one-term-at-a-time form, each a rounding-level
-// change: the two divisions share one reciprocal 1/(|den_a|^2 |den_b|^2); the weight
-// (2n+1)/(n(n+1)) of Re(a_n b_n*) is 1/n + 1/(n+1) from a table.
+// pair term of g Q_sca. One change from the one-term-at-a-time form, a rounding-level one:
+// the two divisions share one reciprocal 1/(|den_a|^2 |den_b|^2).
 HOLDFAST_MIE_INLINE void coefficient_sums(cplx m, double x, int n_terms, const double* d_re,
                                           const double* d_im, const double* psi,
-                                          const double* chi, const double* inv_n, double* a_re,
+                                          const double* chi, const WeightTables& t, double* a_re,
                                           double* a_im, double* b_re, double* b_im,
                                           SeriesSums& s) {
     const cplx inv_m = 1.0 / m;
     const double m_re = m.real(), m_im = m.imag();
     const double im_re = inv_m.real(), im_im = inv_m.imag();
     const double inv_x = 1.0 / x;
+    const double* tn = t.n;
+    const double* w = t.w;
+    const double* w_alt = t.w_alt;
+    const double* w_ab = t.w_ab;
     double ext = 0.0, sca = 0.0, absorbed = 0.0, cross = 0.0, back_re = 0.0, back_im = 0.0;
 #pragma omp simd reduction(+ : ext, sca, absorbed, cross, back_re, back_im)
     for (int n = 1; n <= n_terms; ++n) {
-        const double dn = n;
-        const double nx = dn * inv_x;
+        const double nx = tn[n] * inv_x;
         // G_a = D_n(mx)/m + n/x, G_b = m D_n(mx) + n/x.
         const double ga_re = d_re[n] * im_re - d_im[n] * im_im + nx;
         const double ga_im = d_re[n] * im_im + d_im[n] * im_re;
@@ -575,15 +613,13 @@ HOLDFAST_MIE_INLINE void coefficient_sums(cplx m, double x, int n_terms, const d
         a_im[n] = ai;
         b_re[n] = br;
         b_im[n] = bi;
-        const double w = 2.0 * dn + 1.0;
-        ext += w * (ar + br);
-        sca += w * (ar * ar + ai * ai + br * br + bi * bi);
+        ext += w[n] * (ar + br);
+        sca += w[n] * (ar * ar + ai * ai + br * br + bi * bi);
         // Re(c) - |c|^2 = -Im(G) / |den|^2 (Wronskian form, see detail::Coefficient).
-        absorbed += w * (-ga_im * ia - gb_im * ib);
-        cross += (inv_n[n] + inv_n[n + 1]) * (ar * br + ai * bi);
-        const double sw = (n & 1) != 0 ? -w : w; // (-1)^n (2n+1)
-        back_re += sw * (ar - br);
-        back_im += sw * (ai - bi);
+        absorbed += w[n] * (-ga_im * ia - gb_im * ib);
+        cross += w_ab[n] * (ar * br + ai * bi);
+        back_re += w_alt[n] * (ar - br);
+        back_im += w_alt[n] * (ai - bi);
     }
     s.ext = ext;
     s.sca = sca;
@@ -593,29 +629,20 @@ HOLDFAST_MIE_INLINE void coefficient_sums(cplx m, double x, int n_terms, const d
     s.back_im = back_im;
 }
 
-// sum over n of n(n+2)/(n+1) Re(a_n a*_{n+1} + b_n b*_{n+1}) (BH eq. 4.74), written for the
-// pair (n-1, n) with weight (n-1)(n+1)/n = n - 1/n; a_0 = b_0 = 0 are not stored, so n >= 2.
-HOLDFAST_MIE_INLINE double pair_sums(int n_terms, const double* inv_n, const double* a_re,
+// The pair term of g Q_sca, for the pair (n-1, n); a_0 = b_0 = 0 are not stored, so n >= 2.
+HOLDFAST_MIE_INLINE double pair_sums(int n_terms, const double* w_pair, const double* a_re,
                                      const double* a_im, const double* b_re, const double* b_im) {
     double pair = 0.0;
 #pragma omp simd reduction(+ : pair)
     for (int n = 2; n <= n_terms; ++n)
-        pair += (n - inv_n[n]) * (a_re[n - 1] * a_re[n] + a_im[n - 1] * a_im[n] +
-                                  b_re[n - 1] * b_re[n] + b_im[n - 1] * b_im[n]);
+        pair += w_pair[n] * (a_re[n - 1] * a_re[n] + a_im[n - 1] * a_im[n] +
+                             b_re[n - 1] * b_re[n] + b_im[n - 1] * b_im[n]);
     return pair;
 }
 
-// Per-thread buffers, grown to the largest N met so far: no allocation per call. The table
-// 1/n is filled once per size.
-struct SeriesBuffers {
-    std::vector<double> storage;
-    std::vector<double> inv_n;
-    std::size_t stride = 0;
-};
-
 HOLDFAST_MIE_MULTIVERSION
 MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms, double* buf,
-                                    std::size_t stride, const double* inv_n) {
+                                    std::size_t stride, const WeightTables& t) {
     double* d_re = buf;
     double* d_im = buf + stride;
     double* psi = buf + 2 * stride;
@@ -626,7 +653,9 @@ MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms, double* buf,
     double* b_im = buf + 7 * stride;
     const cplx z = m * x;
     const cplx inv_z = 1.0 / z;
-    const int start = detail::downward_start(std::abs(z), n_terms);
+    // |z| without std::abs (hypot's care for overflow is not needed here).
+    const int start =
+        detail::downward_start(std::sqrt(z.real() * z.real() + z.imag() * z.imag()), n_terms);
     UpwardRiccati riccati(x, n_terms, psi, chi);
     if (start <= serial_max_steps)
         log_derivative_serial(inv_z, start, n_terms, d_re, d_im, riccati);
@@ -634,8 +663,8 @@ MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms, double* buf,
         log_derivative_lanes(inv_z, start, n_terms, d_re, d_im, a_re, riccati); // a_*: scratch
     riccati.finish();
     SeriesSums s;
-    coefficient_sums(m, x, n_terms, d_re, d_im, psi, chi, inv_n, a_re, a_im, b_re, b_im, s);
-    s.pair = pair_sums(n_terms, inv_n, a_re, a_im, b_re, b_im);
+    coefficient_sums(m, x, n_terms, d_re, d_im, psi, chi, t, a_re, a_im, b_re, b_im, s);
+    s.pair = pair_sums(n_terms, t.w_pair, a_re, a_im, b_re, b_im);
 
     // As detail::MieSums::finish.
     MieEfficiencies q;
@@ -651,18 +680,16 @@ MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms, double* buf,
 }
 
 MieEfficiencies sphere_large(cplx m, double x, int n_terms) {
-    thread_local SeriesBuffers b;
+    // Per-thread buffers, grown to the largest N met so far: no allocation per call.
+    thread_local std::vector<double> storage;
+    thread_local SeriesWeights weights;
     // Room for D_n up to lanes * ceil((N+1)/lanes) and psi_n, chi_n, a_n, b_n up to N.
-    const std::size_t need = static_cast<std::size_t>(n_terms) + lanes + 2;
-    if (b.stride < need) {
-        b.stride = need;
-        b.storage.assign(8 * need, 0.0);
-        b.inv_n.resize(need + 1);
-        b.inv_n[0] = 0.0;
-        for (std::size_t n = 1; n <= need; ++n)
-            b.inv_n[n] = 1.0 / static_cast<double>(n);
-    }
-    return sphere_large_kernel(m, x, n_terms, b.storage.data(), b.stride, b.inv_n.data());
+    const std::size_t stride = static_cast<std::size_t>(n_terms) + lanes + 2;
+    if (storage.size() < 8 * stride) storage.resize(8 * stride);
+    weights.grow(stride);
+    const WeightTables t{weights.n.data(), weights.w.data(), weights.w_alt.data(),
+                         weights.w_ab.data(), weights.w_pair.data()};
+    return sphere_large_kernel(m, x, n_terms, storage.data(), stride, t);
 }
 
 void check_finite(const MieEfficiencies& q, cplx m, double x) {

@@ -296,6 +296,32 @@ HOLDFAST_MIE_INLINE LaneVec lane_rescale(LaneVec size) {
     return size > big ? one * shrink : one;
 }
 
+// out[k] = (in[3][k], in[2][k], in[1][k], in[0][k]): the transpose of the rows in[0..3] with
+// the row order reversed (unpack pairs, then swap 128-bit halves).
+HOLDFAST_MIE_INLINE void transpose_reversed(const LaneVec in[width], LaneVec out[width]) {
+    static_assert(width == 4);
+#if defined(__clang__)
+    const LaneVec t0 = __builtin_shufflevector(in[3], in[2], 0, 4, 2, 6);
+    const LaneVec t1 = __builtin_shufflevector(in[3], in[2], 1, 5, 3, 7);
+    const LaneVec t2 = __builtin_shufflevector(in[1], in[0], 0, 4, 2, 6);
+    const LaneVec t3 = __builtin_shufflevector(in[1], in[0], 1, 5, 3, 7);
+    out[0] = __builtin_shufflevector(t0, t2, 0, 1, 4, 5);
+    out[1] = __builtin_shufflevector(t1, t3, 0, 1, 4, 5);
+    out[2] = __builtin_shufflevector(t0, t2, 2, 3, 6, 7);
+    out[3] = __builtin_shufflevector(t1, t3, 2, 3, 6, 7);
+#else
+    const LaneBits lo{0, 4, 2, 6}, hi{1, 5, 3, 7}, first{0, 1, 4, 5}, second{2, 3, 6, 7};
+    const LaneVec t0 = __builtin_shuffle(in[3], in[2], lo);
+    const LaneVec t1 = __builtin_shuffle(in[3], in[2], hi);
+    const LaneVec t2 = __builtin_shuffle(in[1], in[0], lo);
+    const LaneVec t3 = __builtin_shuffle(in[1], in[0], hi);
+    out[0] = __builtin_shuffle(t0, t2, first);
+    out[1] = __builtin_shuffle(t1, t3, first);
+    out[2] = __builtin_shuffle(t0, t2, second);
+    out[3] = __builtin_shuffle(t1, t3, second);
+#endif
+}
+
 // Per lane j, one column of a transfer matrix or one state: (psi_{n+1}, psi_n).
 struct LaneArrays {
     double up_re[lanes], up_im[lanes], cur_re[lanes], cur_im[lanes];
@@ -390,14 +416,14 @@ HOLDFAST_MIE_INLINE void apply_transfer(const LaneArrays& col1, const LaneArrays
 
 // D_n(z) for n = 0..lanes*steps - 1 into d_re, d_im (the caller needs n = 0..n_terms, so
 // lanes*steps > n_terms), from a start at or above `start` (= downward_start(|z|, n_terms))
-// with the usual arbitrary psi_{n_start+1} = 0, psi_{n_start} = 1. `scratch` holds
-// 2 lanes*steps values. The serial psi_n(x), chi_n(x) recurrence rides along (`riccati`).
+// with the usual arbitrary psi_{n_start+1} = 0, psi_{n_start} = 1.
+// The serial psi_n(x), chi_n(x) recurrence rides along (`riccati`).
 HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx inv_z, int start, int n_terms, double* d_re,
-                                              double* d_im, double* scratch,
-                                              UpwardRiccati& riccati) {
+                                              double* d_im, UpwardRiccati& riccati) {
     const double iz_re = inv_z.real();
     const double iz_im = inv_z.imag();
-    const int stored_steps = (n_terms + 1 + lanes - 1) / lanes; // steps n = 1..lanes*stored
+    // Steps n = 1..lanes*stored_steps, stored_steps a multiple of width (see C below).
+    const int stored_steps = width * ((n_terms + lanes * width) / (lanes * width));
     const int stored_top = lanes * stored_steps;
     const int free_steps = std::max(1, (start - stored_top + lanes - 1) / lanes);
 
@@ -444,45 +470,45 @@ HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx inv_z, int start, int n_terms
         cr[g] *= h;
         ci[g] *= h;
     }
-    double* step_re = scratch;
-    double* step_im = scratch + lanes * stored_steps;
-    for (int s = 0; s < stored_steps; ++s) {
-        for (int g = 0; g < groups; ++g) {
-            const LaneVec f = 2.0 * nd[g] + 1.0;
-            const LaneVec a_re = f * iz_re;
-            const LaneVec a_im = f * iz_im;
-            const LaneVec lo_re = a_re * cr[g] - a_im * ci[g] - ur[g];
-            const LaneVec lo_im = a_re * ci[g] + a_im * cr[g] - ui[g];
-            const LaneVec inv = 1.0 / (lo_re * lo_re + lo_im * lo_im);
-            const LaneVec q_re = (cr[g] * lo_re + ci[g] * lo_im) * inv;
-            const LaneVec q_im = (ci[g] * lo_re - cr[g] * lo_im) * inv;
-            const LaneVec dd_re = nd[g] * iz_re - q_re;
-            const LaneVec dd_im = nd[g] * iz_im - q_im;
-            // Stored in step order (lane j of step s at s * lanes + j), with whole-vector
-            // stores; put in n order below.
-            std::memcpy(step_re + s * lanes + g * width, &dd_re, sizeof dd_re);
-            std::memcpy(step_im + s * lanes + g * width, &dd_im, sizeof dd_im);
-            ur[g] = cr[g];
-            ui[g] = ci[g];
-            cr[g] = lo_re;
-            ci[g] = lo_im;
-            nd[g] -= 1.0;
-        }
-        if (s % rescale_every == rescale_every - 1) {
+    // Blocks of `width` steps: a block gives each lane `width` consecutive D_n, which a 4x4
+    // transpose turns into one vector store per lane (instead of one scalar store per value).
+    for (int s = 0; s < stored_steps; s += width) {
+        LaneVec rows_re[groups][width], rows_im[groups][width];
+        for (int t = 0; t < width; ++t) {
             for (int g = 0; g < groups; ++g) {
-                const LaneVec h = lane_rescale(lane_max4(ur[g], ui[g], cr[g], ci[g]));
-                ur[g] *= h;
-                ui[g] *= h;
-                cr[g] *= h;
-                ci[g] *= h;
+                const LaneVec f = 2.0 * nd[g] + 1.0;
+                const LaneVec a_re = f * iz_re;
+                const LaneVec a_im = f * iz_im;
+                const LaneVec lo_re = a_re * cr[g] - a_im * ci[g] - ur[g];
+                const LaneVec lo_im = a_re * ci[g] + a_im * cr[g] - ui[g];
+                const LaneVec inv = 1.0 / (lo_re * lo_re + lo_im * lo_im);
+                const LaneVec q_re = (cr[g] * lo_re + ci[g] * lo_im) * inv;
+                const LaneVec q_im = (ci[g] * lo_re - cr[g] * lo_im) * inv;
+                rows_re[g][t] = nd[g] * iz_re - q_re;
+                rows_im[g][t] = nd[g] * iz_im - q_im;
+                ur[g] = cr[g];
+                ui[g] = ci[g];
+                cr[g] = lo_re;
+                ci[g] = lo_im;
+                nd[g] -= 1.0;
             }
         }
-    }
-    // Lane j, step s holds D_{n-1} for n = (j+1) steps - s.
-    for (int j = 0; j < lanes; ++j) {
-        for (int s = 0; s < stored_steps; ++s) {
-            d_re[(j + 1) * stored_steps - 1 - s] = step_re[s * lanes + j];
-            d_im[(j + 1) * stored_steps - 1 - s] = step_im[s * lanes + j];
+        for (int g = 0; g < groups; ++g) {
+            const LaneVec h = lane_rescale(lane_max4(ur[g], ui[g], cr[g], ci[g]));
+            ur[g] *= h;
+            ui[g] *= h;
+            cr[g] *= h;
+            ci[g] *= h;
+            // Lane j = g width + k at step s + t holds D_{n-1}, n - 1 = (j+1) steps - 1 - s - t:
+            // the transposed column k, in the order t = 3, 2, 1, 0, is ascending in n.
+            LaneVec col_re[width], col_im[width];
+            transpose_reversed(rows_re[g], col_re);
+            transpose_reversed(rows_im[g], col_im);
+            for (int k = 0; k < width; ++k) {
+                const int first = (g * width + k + 1) * stored_steps - width - s;
+                std::memcpy(d_re + first, &col_re[k], sizeof(LaneVec));
+                std::memcpy(d_im + first, &col_im[k], sizeof(LaneVec));
+            }
         }
     }
 }
@@ -660,7 +686,7 @@ MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms, double* buf,
     if (start <= serial_max_steps)
         log_derivative_serial(inv_z, start, n_terms, d_re, d_im, riccati);
     else
-        log_derivative_lanes(inv_z, start, n_terms, d_re, d_im, a_re, riccati); // a_*: scratch
+        log_derivative_lanes(inv_z, start, n_terms, d_re, d_im, riccati);
     riccati.finish();
     SeriesSums s;
     coefficient_sums(m, x, n_terms, d_re, d_im, psi, chi, t, a_re, a_im, b_re, b_im, s);
@@ -683,8 +709,9 @@ MieEfficiencies sphere_large(cplx m, double x, int n_terms) {
     // Per-thread buffers, grown to the largest N met so far: no allocation per call.
     thread_local std::vector<double> storage;
     thread_local SeriesWeights weights;
-    // Room for D_n up to lanes * ceil((N+1)/lanes) and psi_n, chi_n, a_n, b_n up to N.
-    const std::size_t stride = static_cast<std::size_t>(n_terms) + lanes + 2;
+    // Room for D_n up to lanes * stored_steps <= N + lanes * width (log_derivative_lanes)
+    // and psi_n, chi_n, a_n, b_n up to N.
+    const std::size_t stride = static_cast<std::size_t>(n_terms) + lanes * width + 2;
     if (storage.size() < 8 * stride) storage.resize(8 * stride);
     weights.grow(stride);
     const WeightTables t{weights.n.data(), weights.w.data(), weights.w_alt.data(),

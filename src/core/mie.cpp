@@ -187,7 +187,10 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 // the version the CPU can run (GCC function multiversioning through an ifunc), so the
 // binary stays portable. FMA rounds a*b+c once instead of twice: the results change in the
 // last bits only (tests/mie_reference_test.cpp holds both versions to the same 1e-9).
-#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) && defined(__ELF__)
+// Define HOLDFAST_NO_MULTIVERSION to build the baseline version only (to test it on a
+// machine that has AVX2).
+#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) && defined(__ELF__) &&     \
+    !defined(HOLDFAST_NO_MULTIVERSION)
 #define HOLDFAST_MIE_MULTIVERSION __attribute__((target_clones("arch=x86-64-v3", "default")))
 #else
 #define HOLDFAST_MIE_MULTIVERSION

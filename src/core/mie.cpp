@@ -187,17 +187,19 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 // multiplication by 1/x. Buffers are per thread and reused: no allocation per call.
 // Against the single loop over n that this replaced, x = 1e4: about 3.5 times faster.
 
-// Built for the baseline x86-64 and again for x86-64-v3 (AVX2 and FMA); the loader picks
-// the version the CPU can run (GCC function multiversioning through an ifunc), so the
-// binary stays portable. FMA rounds a*b+c once instead of twice: the results change in the
-// last bits only (tests/mie_reference_test.cpp holds both versions to the same 1e-9).
-// Define HOLDFAST_NO_MULTIVERSION to build the baseline version only (to test it on a
-// machine that has AVX2).
-#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) && defined(__ELF__) &&     \
+// The kernel is compiled three times: for the baseline x86-64 (SSE2, any x86-64 CPU), for
+// x86-64-v3 (AVX2 and FMA) and for x86-64-v4 (AVX-512; used here with 256-bit vectors, which
+// avoids the clock reduction that 512-bit instructions cause on many CPUs, but gains 32
+// vector registers and so no spills). sphere_large picks the best the CPU has at run time,
+// so the binary stays portable. FMA rounds a*b+c once instead of twice: the results change
+// in the last bits only (tests/mie_reference_test.cpp holds every version to the same
+// 1e-9). Define HOLDFAST_NO_MULTIVERSION to build the baseline version only (to test it on
+// a machine that has AVX2).
+#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) &&                         \
     !defined(HOLDFAST_NO_MULTIVERSION)
-#define HOLDFAST_MIE_MULTIVERSION __attribute__((target_clones("arch=x86-64-v3", "default")))
+#define HOLDFAST_MIE_MULTIVERSION 1
 #else
-#define HOLDFAST_MIE_MULTIVERSION
+#define HOLDFAST_MIE_MULTIVERSION 0
 #endif
 #define HOLDFAST_MIE_INLINE [[gnu::always_inline]] inline
 
@@ -678,9 +680,9 @@ HOLDFAST_MIE_INLINE double pair_sums(int n_terms, const double* w_pair, const do
     return pair;
 }
 
-HOLDFAST_MIE_MULTIVERSION
-MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms, double* buf,
-                                    std::size_t stride, const WeightTables& t) {
+HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms,
+                                                        double* buf, std::size_t stride,
+                                                        const WeightTables& t) {
     double* d_re = buf;
     double* d_im = buf + stride;
     double* psi = buf + 2 * stride;
@@ -717,6 +719,23 @@ MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms, double* buf,
     return q;
 }
 
+MieEfficiencies sphere_large_baseline(cplx m, double x, int n_terms, double* buf,
+                                      std::size_t stride, const WeightTables& t) {
+    return sphere_large_kernel(m, x, n_terms, buf, stride, t);
+}
+#if HOLDFAST_MIE_MULTIVERSION
+[[gnu::target("arch=x86-64-v3")]] MieEfficiencies
+sphere_large_v3(cplx m, double x, int n_terms, double* buf, std::size_t stride,
+                const WeightTables& t) {
+    return sphere_large_kernel(m, x, n_terms, buf, stride, t);
+}
+[[gnu::target("arch=x86-64-v4,prefer-vector-width=256")]] MieEfficiencies
+sphere_large_v4(cplx m, double x, int n_terms, double* buf, std::size_t stride,
+                const WeightTables& t) {
+    return sphere_large_kernel(m, x, n_terms, buf, stride, t);
+}
+#endif
+
 MieEfficiencies sphere_large(cplx m, double x, int n_terms) {
     // Per-thread buffers, grown to the largest N met so far: no allocation per call.
     thread_local std::vector<double> storage;
@@ -728,7 +747,13 @@ MieEfficiencies sphere_large(cplx m, double x, int n_terms) {
     weights.grow(stride);
     const WeightTables t{weights.n.data(), weights.w.data(), weights.w_alt.data(),
                          weights.w_ab.data(), weights.w_pair.data()};
-    return sphere_large_kernel(m, x, n_terms, storage.data(), stride, t);
+#if HOLDFAST_MIE_MULTIVERSION
+    if (__builtin_cpu_supports("x86-64-v4"))
+        return sphere_large_v4(m, x, n_terms, storage.data(), stride, t);
+    if (__builtin_cpu_supports("x86-64-v3"))
+        return sphere_large_v3(m, x, n_terms, storage.data(), stride, t);
+#endif
+    return sphere_large_baseline(m, x, n_terms, storage.data(), stride, t);
 }
 
 void check_finite(const MieEfficiencies& q, cplx m, double x) {

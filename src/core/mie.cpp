@@ -435,8 +435,8 @@ HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx inv_z, int start, int n_terms
                                               double* d_im, UpwardRiccati& riccati) {
     const double iz_re = inv_z.real();
     const double iz_im = inv_z.imag();
-    // Steps n = 1..lanes*stored_steps, stored_steps a multiple of width (see C below).
-    const int stored_steps = width * ((n_terms + lanes * width) / (lanes * width));
+    const int stored_steps = (n_terms + lanes) / lanes; // steps n = 1..lanes*stored_steps
+
     const int stored_top = lanes * stored_steps;
     const int free_steps = std::max(1, (start - stored_top + lanes - 1) / lanes);
 
@@ -483,37 +483,52 @@ HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx inv_z, int start, int n_terms
         cr[g] *= h;
         ci[g] *= h;
     }
-    // Blocks of `width` steps: a block gives each lane `width` consecutive D_n, which a 4x4
-    // transpose turns into one vector store per lane (instead of one scalar store per value).
-    for (int s = 0; s < stored_steps; s += width) {
-        LaneVec rows_re[groups][width], rows_im[groups][width];
-        for (int t = 0; t < width; ++t) {
-            for (int g = 0; g < groups; ++g) {
-                const LaneVec f = 2.0 * nd[g] + 1.0;
-                const LaneVec a_re = f * iz_re;
-                const LaneVec a_im = f * iz_im;
-                const LaneVec lo_re = a_re * cr[g] - ur[g] - a_im * ci[g];
-                const LaneVec lo_im = a_re * ci[g] - ui[g] + a_im * cr[g];
-                const LaneVec inv = 1.0 / (lo_re * lo_re + lo_im * lo_im);
-                const LaneVec q_re = (cr[g] * lo_re + ci[g] * lo_im) * inv;
-                const LaneVec q_im = (ci[g] * lo_re - cr[g] * lo_im) * inv;
-                rows_re[g][t] = nd[g] * iz_re - q_re;
-                rows_im[g][t] = nd[g] * iz_im - q_im;
-                ur[g] = cr[g];
-                ui[g] = ci[g];
-                cr[g] = lo_re;
-                ci[g] = lo_im;
-                nd[g] -= 1.0;
+    // One step in the lanes of group g: D_{n-1} into out_re, out_im.
+    const auto step = [&](int g, LaneVec& out_re, LaneVec& out_im) {
+        const LaneVec f = 2.0 * nd[g] + 1.0;
+        const LaneVec a_re = f * iz_re;
+        const LaneVec a_im = f * iz_im;
+        const LaneVec lo_re = a_re * cr[g] - ur[g] - a_im * ci[g];
+        const LaneVec lo_im = a_re * ci[g] - ui[g] + a_im * cr[g];
+        const LaneVec inv = 1.0 / (lo_re * lo_re + lo_im * lo_im);
+        const LaneVec q_re = (cr[g] * lo_re + ci[g] * lo_im) * inv;
+        const LaneVec q_im = (ci[g] * lo_re - cr[g] * lo_im) * inv;
+        out_re = nd[g] * iz_re - q_re;
+        out_im = nd[g] * iz_im - q_im;
+        ur[g] = cr[g];
+        ui[g] = ci[g];
+        cr[g] = lo_re;
+        ci[g] = lo_im;
+        nd[g] -= 1.0;
+    };
+    // Lane j = g width + k at step s holds D_{n-1}, n - 1 = (j+1) stored_steps - 1 - s.
+    // The first stored_steps % width steps one at a time, with a scalar store per value.
+    const int head = stored_steps % width;
+    for (int s = 0; s < head; ++s) {
+        for (int g = 0; g < groups; ++g) {
+            LaneVec dd_re, dd_im;
+            step(g, dd_re, dd_im);
+            for (int k = 0; k < width; ++k) {
+                const int index = (g * width + k + 1) * stored_steps - 1 - s;
+                d_re[index] = dd_re[k];
+                d_im[index] = dd_im[k];
             }
         }
+    }
+    // Then blocks of `width` steps: a block gives each lane `width` consecutive D_n, which a
+    // 4x4 transpose turns into one vector store per lane (instead of one store per value).
+    for (int s = head; s < stored_steps; s += width) {
+        LaneVec rows_re[groups][width], rows_im[groups][width];
+        for (int t = 0; t < width; ++t)
+            for (int g = 0; g < groups; ++g)
+                step(g, rows_re[g][t], rows_im[g][t]);
         for (int g = 0; g < groups; ++g) {
             const LaneVec h = lane_rescale(lane_max4(ur[g], ui[g], cr[g], ci[g]));
             ur[g] *= h;
             ui[g] *= h;
             cr[g] *= h;
             ci[g] *= h;
-            // Lane j = g width + k at step s + t holds D_{n-1}, n - 1 = (j+1) steps - 1 - s - t:
-            // the transposed column k, in the order t = 3, 2, 1, 0, is ascending in n.
+            // Steps s + t, t = 3, 2, 1, 0, of lane k: the transposed column k, ascending in n.
             LaneVec col_re[width], col_im[width];
             transpose_reversed(rows_re[g], col_re);
             transpose_reversed(rows_im[g], col_im);
@@ -740,9 +755,9 @@ MieEfficiencies sphere_large(cplx m, double x, int n_terms) {
     // Per-thread buffers, grown to the largest N met so far: no allocation per call.
     thread_local std::vector<double> storage;
     thread_local SeriesWeights weights;
-    // Room for D_n up to lanes * stored_steps <= N + lanes * width (log_derivative_lanes)
-    // and psi_n, chi_n, a_n, b_n up to N.
-    const std::size_t stride = static_cast<std::size_t>(n_terms) + lanes * width + 2;
+    // Room for D_n up to lanes * stored_steps <= N + lanes (log_derivative_lanes) and psi_n,
+    // chi_n, a_n, b_n up to N.
+    const std::size_t stride = static_cast<std::size_t>(n_terms) + lanes + 2;
     if (storage.size() < 8 * stride) storage.resize(8 * stride);
     weights.grow(stride);
     const WeightTables t{weights.n.data(), weights.w.data(), weights.w_alt.data(),

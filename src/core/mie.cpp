@@ -195,7 +195,7 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 // in the last bits only (tests/mie_reference_test.cpp holds every version to the same
 // 1e-9). Define HOLDFAST_NO_MULTIVERSION to build the baseline version only (to test it on
 // a machine that has AVX2).
-#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) &&                         \
+#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) &&                             \
     !defined(HOLDFAST_NO_MULTIVERSION)
 #define HOLDFAST_MIE_MULTIVERSION 1
 #else
@@ -625,10 +625,9 @@ struct WeightTables {
 // pair term of g Q_sca. One change from the one-term-at-a-time form, a rounding-level one:
 // the two divisions share one reciprocal 1/(|den_a|^2 |den_b|^2).
 HOLDFAST_MIE_INLINE void coefficient_sums(cplx m, double x, int n_terms, const double* d_re,
-                                          const double* d_im, const double* psi,
-                                          const double* chi, const WeightTables& t, double* a_re,
-                                          double* a_im, double* b_re, double* b_im,
-                                          SeriesSums& s) {
+                                          const double* d_im, const double* psi, const double* chi,
+                                          const WeightTables& t, double* a_re, double* a_im,
+                                          double* b_re, double* b_im, SeriesSums& s) {
     const cplx inv_m = 1.0 / m;
     const double m_re = m.real(), m_im = m.imag();
     const double im_re = inv_m.real(), im_im = inv_m.imag();
@@ -690,14 +689,13 @@ HOLDFAST_MIE_INLINE double pair_sums(int n_terms, const double* w_pair, const do
     double pair = 0.0;
 #pragma omp simd reduction(+ : pair)
     for (int n = 2; n <= n_terms; ++n)
-        pair += w_pair[n] * (a_re[n - 1] * a_re[n] + a_im[n - 1] * a_im[n] +
-                             b_re[n - 1] * b_re[n] + b_im[n - 1] * b_im[n]);
+        pair += w_pair[n] * (a_re[n - 1] * a_re[n] + a_im[n - 1] * a_im[n] + b_re[n - 1] * b_re[n] +
+                             b_im[n - 1] * b_im[n]);
     return pair;
 }
 
-HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms,
-                                                        double* buf, std::size_t stride,
-                                                        const WeightTables& t) {
+HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms, double* buf,
+                                                        std::size_t stride, const WeightTables& t) {
     double* d_re = buf;
     double* d_im = buf + stride;
     double* psi = buf + 2 * stride;
@@ -739,9 +737,9 @@ MieEfficiencies sphere_large_baseline(cplx m, double x, int n_terms, double* buf
     return sphere_large_kernel(m, x, n_terms, buf, stride, t);
 }
 #if HOLDFAST_MIE_MULTIVERSION
-[[gnu::target("arch=x86-64-v3")]] MieEfficiencies
-sphere_large_v3(cplx m, double x, int n_terms, double* buf, std::size_t stride,
-                const WeightTables& t) {
+[[gnu::target("arch=x86-64-v3")]] MieEfficiencies sphere_large_v3(cplx m, double x, int n_terms,
+                                                                  double* buf, std::size_t stride,
+                                                                  const WeightTables& t) {
     return sphere_large_kernel(m, x, n_terms, buf, stride, t);
 }
 [[gnu::target("arch=x86-64-v4,prefer-vector-width=256")]] MieEfficiencies
@@ -783,9 +781,7 @@ void check_finite(const MieEfficiencies& q, cplx m, double x) {
 
 } // namespace
 
-int mie_series_terms(double x) {
-    return static_cast<int>(std::ceil(x + 6.0 * std::cbrt(x) + 2.0));
-}
+int mie_series_terms(double x) { return static_cast<int>(std::ceil(x + 6.0 * std::cbrt(x) + 2.0)); }
 
 MieEfficiencies mie_sphere(std::complex<double> m, double x) {
     detail::check_index(m, "mie_sphere");

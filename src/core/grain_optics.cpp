@@ -28,6 +28,7 @@
 #include <string>
 #include <unordered_map>
 
+#include "grain_spectral_rule.hpp"
 #include "holdfast/errors.hpp"
 #include "holdfast/grain.hpp"
 
@@ -193,6 +194,15 @@ MieEfficiencies grain_efficiencies(const GrainOptics& optics, double radius_um,
 
 namespace {
 
+// Which quadrature a spectral mean uses. The fixed rule (grain_spectral_rule.cpp) is fast
+// for every grain, including the nearly transparent and coated ones on which the adaptive
+// quadrature chases resonance spikes for minutes; tolerances tighter than it is built for
+// (below 1e-7) keep the adaptive quadrature with the large-sphere shortcut of this file,
+// which is also what the accuracy tests use as their reference.
+bool use_fixed_rule(const GrainEfficiencySettings& settings) {
+    return settings.spectral.relative_tolerance >= detail::fixed_rule_tightest_tolerance;
+}
+
 SpectralEfficiency starlight_mean(const GrainOptics& optics,
                                   std::shared_ptr<const Spectrum> spectrum,
                                   const GrainEfficiencySettings& settings, bool pressure) {
@@ -207,6 +217,18 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
     const SpectralMeanSettings sm = settings.spectral;
     const GrainOptics po = p.optics;
     const WavelengthBand band = p.band;
+    if (use_fixed_rule(settings)) {
+        auto q = std::make_shared<detail::SmoothedGrainQ>(
+            po, x_large, detail::fixed_rule_density(sm.relative_tolerance));
+        auto curve =
+            std::make_shared<detail::FixedRuleCurve>(q, detail::fixed_rule_lattice(*q, band));
+        const std::vector<double> kinks = sm.breakpoints_um;
+        out.mean = [curve, spectrum, band, kinks, pressure](double radius_um) {
+            const detail::FixedRuleMeans r = curve->means(*spectrum, band, radius_um, kinks);
+            return pressure ? r.q_pr : r.q_abs;
+        };
+        return out;
+    }
     auto cache = std::make_shared<EdgeFitCache>();
     out.mean = [po, band, sm, x_large, spectrum, pressure, cache](double radius_um) {
         const std::function<double(double)> q = [&](double wavelength_um) {
@@ -237,6 +259,31 @@ PlanckMean planck_qabs_mean(const GrainOptics& optics, double radius_um,
     check_grain_optics(optics);
     if (!(radius_um > 0.0) || !std::isfinite(radius_um))
         throw InputError("the grain radius must be positive");
+    if (use_fixed_rule(settings)) {
+        // One SmoothedGrainQ for every temperature: the panels are fixed in x, so a constant
+        // index meets the same size parameters at every temperature too.
+        const detail::FixedRuleDensity density =
+            detail::fixed_rule_density(settings.spectral.relative_tolerance);
+        std::shared_ptr<detail::FixedRuleCurve> curve;
+        return [optics, radius_um, settings, density, curve](double temperature_K) mutable {
+            const std::shared_ptr<const Spectrum> planck = planck_spectrum(kelvin(temperature_K));
+            const Plan p = plan(optics, *planck, settings);
+            auto q = curve && curve->efficiencies().optics().core == p.optics.core &&
+                             curve->efficiencies().optics().mantle == p.optics.mantle
+                         ? std::shared_ptr<detail::SmoothedGrainQ>()
+                         : std::make_shared<detail::SmoothedGrainQ>(
+                               p.optics, settings.large_sphere_from_x, density);
+            const detail::FixedRuleLattice lattice =
+                detail::fixed_rule_lattice(q ? *q : curve->efficiencies(), p.band);
+            if (q || !(curve->lattice() == lattice))
+                curve = std::make_shared<detail::FixedRuleCurve>(
+                    q ? q
+                      : std::make_shared<detail::SmoothedGrainQ>(
+                            p.optics, settings.large_sphere_from_x, density),
+                    lattice);
+            return curve->means(*planck, p.band, radius_um, settings.spectral.breakpoints_um).q_abs;
+        };
+    }
     auto cache = std::make_shared<EdgeFitCache>();
     return [optics, radius_um, settings, cache](double temperature_K) {
         const std::shared_ptr<const Spectrum> planck = planck_spectrum(kelvin(temperature_K));

@@ -74,6 +74,8 @@ constexpr double thick_mantle_depth = 12.0;
 // Coated-sphere window averages: grid points per decade of x, window length in periods.
 constexpr double coated_grid_per_decade = 3.0;
 constexpr double coated_window_periods = 4.0;
+// The largest size parameter at which the large-sphere model averages the series.
+constexpr double max_grid_x = 2e4;
 // Resonances start above this size parameter (below it the coarse panels suffice).
 constexpr double ripple_from_x = 2.0;
 // Resonance panels are this many times k wide in ln x (see fixed_rule_lattice).
@@ -178,26 +180,33 @@ struct SmoothedGrainQ::EdgeFit {
 
     EdgeFit(std::complex<double> m_, double x_from_, const FixedRuleDensity& d)
         : m(m_), go{m_, std::nullopt}, x_from(x_from_), density(d) {
+        // The grid reaches k x = 1, but not beyond x = 2e4 (its windows cost ~x each): a
+        // sphere with k < 5e-5 continues from the last two grid values.
         const double x_c =
-            m.imag() > 0.0 ? std::max(x_from, 1.0 / m.imag()) : MieRange::x_max_series;
+            std::max(x_from, m.imag() > 0.0 ? std::min(1.0 / m.imag(), max_grid_x) : max_grid_x);
         last = static_cast<int>(std::ceil(3.0 * std::log10(x_c / x_from) - 1e-9));
-        while (last > 0 &&
-               grid_x(last) * std::exp(window_width(grid_x(last))) > MieRange::x_max_series)
-            --last;
         r.resize(static_cast<std::size_t>(last) + 1);
         const double x1 = grid_x(last), x2 = 2.0 * x1;
-        if (m.imag() > 0.0 && x2 <= MieRange::x_max_series) {
+        Value va, vb;
+        auto fit = [&](double p1, double p2, double r1, double r2, double& fa, double& fb) {
+            fb = (r1 - r2) / (p1 - p2);
+            fa = r1 - fb * p1;
+        };
+        if (m.imag() * x1 >= 1.0 && x2 <= MieRange::x_max_series) {
             // R = a + b x^(-1/3) through the single values at x1 and x2.
             const MieEfficiencies s1 = mie_sphere(m, x1), s2 = mie_sphere(m, x2);
             const MieEfficiencies g1 = go.at(x1), g2 = go.at(x2);
             const double p1 = std::cbrt(1.0 / x1), p2 = std::cbrt(1.0 / x2);
-            auto fit = [&](double r1, double r2, double& fa, double& fb) {
-                fb = (r1 - r2) / (p1 - p2);
-                fa = r1 - fb * p1;
-            };
-            Value va, vb;
-            fit(x1 * (s1.q_pr - g1.q_pr), x2 * (s2.q_pr - g2.q_pr), va.q_pr, vb.q_pr);
-            fit(x1 * (s1.q_abs - g1.q_abs), x2 * (s2.q_abs - g2.q_abs), va.q_abs, vb.q_abs);
+            fit(p1, p2, x1 * (s1.q_pr - g1.q_pr), x2 * (s2.q_pr - g2.q_pr), va.q_pr, vb.q_pr);
+            fit(p1, p2, x1 * (s1.q_abs - g1.q_abs), x2 * (s2.q_abs - g2.q_abs), va.q_abs, vb.q_abs);
+            a = va;
+            b = vb;
+        } else if (last > 0) {
+            // ... or through the window averages at the last two grid points.
+            const Value r1 = grid(last - 1), r2 = grid(last);
+            const double p1 = std::cbrt(1.0 / grid_x(last - 1)), p2 = std::cbrt(1.0 / x1);
+            fit(p1, p2, r1.q_pr, r2.q_pr, va.q_pr, vb.q_pr);
+            fit(p1, p2, r1.q_abs, r2.q_abs, va.q_abs, vb.q_abs);
             a = va;
             b = vb;
         }

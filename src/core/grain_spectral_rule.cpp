@@ -74,6 +74,8 @@ constexpr double thick_mantle_depth = 12.0;
 // Coated-sphere window averages: grid points per decade of x, window length in periods.
 constexpr double coated_grid_per_decade = 3.0;
 constexpr double coated_window_periods = 4.0;
+// Beyond this k x the interference structure is damped below exp(-12).
+constexpr double damped_kx = 3.0;
 // The largest size parameter at which the large-sphere model averages the series.
 constexpr double max_grid_x = 2e4;
 // Resonances start above this size parameter (below it the coarse panels suffice).
@@ -437,8 +439,11 @@ FixedRuleLattice fixed_rule_lattice(const SmoothedGrainQ& q, const WavelengthBan
     // panels of 12 k in ln x put 8 nodes within about 2.5 such widths, so the spikes that carry
     // area are resolved; narrower ones (below the floor) carry area in proportion to their width.
     l.ripple_ln_width = ripple_width(k_min, l.density);
+    l.smallest_k = k_min;
     return l;
 }
+
+bool fixed_rule_suits(const FixedRuleLattice& lattice) { return lattice.constant_index; }
 
 // ---- the rule ---------------------------------------------------------------------------------
 
@@ -453,9 +458,15 @@ FixedRuleCurve::FixedRuleCurve(std::shared_ptr<SmoothedGrainQ> q, FixedRuleLatti
 int FixedRuleCurve::subdivisions(long j) const {
     if (j < j_ripple_ || j >= j_top_) return 1;
     const double h = lattice_.density.coarse_ln_width;
+    const double x_lo = std::exp(h * static_cast<double>(j));
     const double x_hi = std::exp(h * static_cast<double>(j + 1));
-    const double fine = std::min(lattice_.ripple_ln_width,
-                                 lattice_.density.periods_per_panel * pi / (lattice_.nu * x_hi));
+    // The interference structure needs resolving only while the light crossing the sphere is
+    // not yet absorbed: its amplitude falls as exp(-4 k x) (van de Hulst 1957, sec. 11.22).
+    const double fine =
+        lattice_.smallest_k * x_lo >= damped_kx
+            ? lattice_.ripple_ln_width
+            : std::min(lattice_.ripple_ln_width,
+                       lattice_.density.periods_per_panel * pi / (lattice_.nu * x_hi));
     return std::max(1, static_cast<int>(std::ceil(h / fine - 1e-9)));
 }
 

@@ -81,6 +81,7 @@ struct FixedRuleLattice {
     double nu = 0.1;
     double ripple_ln_width = 0.00125;
     bool constant_index = false;
+    double smallest_k = 0.0;
     double reference_wavelength_um = 1.0; // inside the band
     bool operator==(const FixedRuleLattice& o) const {
         return nu == o.nu && ripple_ln_width == o.ripple_ln_width &&
@@ -91,6 +92,13 @@ struct FixedRuleLattice {
     }
 };
 FixedRuleLattice fixed_rule_lattice(const SmoothedGrainQ& q, const WavelengthBand& band);
+
+// Whether the fixed rule is the quick choice: with a constant index every Q is computed once
+// per curve. An index that varies with wavelength would need Q afresh at every radius, on
+// panels that resolve the interference structure, and the large-sphere model fitted afresh
+// at every wavelength above the large-sphere limit: the adaptive quadrature is cheaper there
+// (and as slow as before for nearly transparent tables).
+bool fixed_rule_suits(const FixedRuleLattice& lattice);
 
 struct FixedRuleMeans {
     double q_pr = 0.0;

@@ -12,40 +12,49 @@
 //     gsl_integration_glfixed_table).
 //
 // Why not the adaptive quadrature (spectral_mean.cpp). For a weakly absorbing sphere
-// (ice, k = 1e-4) Q(x) is a smooth interference structure plus thousands of very narrow
-// resonance spikes. An adaptive rule bisects onto every spike it notices, although a spike's
-// share of a spectral mean is about its width over the band, far below 1e-4: a beta curve took
-// tens of seconds to minutes. A Planck curve is smooth and broad in ln(lambda), so the mean
-// only needs the interference structure resolved.
+// (ice, k = 1e-4) Q(x) is a smooth interference structure plus thousands of narrow resonance
+// spikes. An adaptive rule bisects onto every spike it notices and, for a 200-radius curve to
+// 1 mm, took minutes (the shipped ice curve failed after 8 minutes on a roundoff test). Nor
+// can the spikes simply be skipped: measured, their share of <Q_pr> is ~1e-3 at x ~ 30-300
+// for k = 1e-4, because the ones that carry area are as wide as their absorption width
+// 2 k x / n. A fixed rule fine enough to resolve those costs little if the work is shared
+// between radii, which panels fixed in x allow.
 //
 // Method. With v = ln x, x = 2 pi s / lambda, the mean is
 //   <Q>(s) = int Q(x) F(lambda) lambda dv / int F(lambda) lambda dv  over the band,
-// both integrals by the same composite Gauss-Legendre rule (8 points per panel). The panels
-// are fixed in x, not in lambda, and the same for every radius:
-//   - panels of width 0.25 in v where Q varies slowly: small x (up to where a panel of one
-//     interference period pi / nu, nu = max(|n - 1|, 0.1), becomes narrower than that) and
-//     above the large-sphere limit;
-//   - panels one interference period long in x in between (periods_per_panel).
-// Only the two panels cut by the band's ends, and those cut at the kinks of tabulated optical
-// constants, differ between radii. A grain whose index does not depend on wavelength (every
-// shipped material, porous or coated) therefore meets the same size parameters at every
-// radius, and each Q is computed once per beta curve (SmoothedGrainQ caches them).
+// both integrals by the same composite 8-point Gauss-Legendre rule. The coarse panels are
+// [j h, (j + 1) h] in v (h = 0.0625 by default), the same for every radius; each is cut into
+// equal fine panels (FixedRuleCurve::subdivisions):
+//   - none for x < 2 (no resonances yet) and above the large-sphere limit (smooth models);
+//   - between them, fine panels 12 k wide in v (k the smallest over the band and the
+//     components; at least 0.00125 by default), which puts 8 nodes within ~2.5 absorption
+//     widths of a resonance, and no longer than half an interference period pi / nu in x
+//     (nu = max(|n - 1|, 0.1)) while k x < 3 (beyond, the interference is damped away).
+// For an index that does not depend on wavelength Q depends on x alone: each coarse panel's Q
+// is computed once per curve and turned into product-integration weights against the 8 coarse
+// Gauss nodes (the spectrum, smooth on the panel, is interpolated through them), so a further
+// radius costs 8 values of the spectrum per coarse panel; only the two panels cut by the
+// band's ends are integrated fine panel by fine panel. Indices that vary with wavelength use
+// the adaptive quadrature instead (grain_optics.cpp): Q would change at every radius.
 //
-// Large spheres (x > fixed_rule_large_x = 1000). A homogeneous sphere uses geometric optics
-// (mie_geometric_optics) plus a/x + b x^(-4/3), as grain_efficiencies does, but with a and b
-// fitted to Hann-window averages of (series - geometric optics) over x in [1000, 1414] and
-// [1414, 2000] instead of to two single values: for small k the single values carry the
-// interference and ripple structure, the window averages only its smooth part, which is what a
-// spectral mean sees. This holds for every k >= 0, so a transparent sphere no longer sums the
-// series up to x = 1/k. A coated sphere has no geometric-optics model here: where its mantle
-// absorbs everything that reaches the core (2 k_mantle x (1 - f) >= 12) it is the homogeneous
-// sphere of the mantle material; otherwise its Q is the Hann-window average of its series over
-// 6 interference periods at size parameters 1000 * 10^(j/5), interpolated (cubic, in ln x)
-// between them. Either way the cost of a curve no longer grows with x^2.
+// Large spheres (x above large_sphere_from_x, default 1000, rounded up to a coarse edge). A
+// homogeneous sphere uses geometric optics (mie_geometric_optics) plus R(x)/x. Up to k x = 1
+// (at most x = 2e4), R is the Hann-window average of x (series - geometric optics) at three
+// sizes per decade, interpolated (cubic in ln x): for small k a single value of the series
+// carries the interference and the resonances, and the residual's mean changes with k x (from
+// about 5.4/x to 8/x for ice), which the form a/x + b x^(-4/3) fitted at two sizes misses by
+// 3e-4 in <Q_pr>. Beyond k x = 1 the resonances are damped and R = a + b x^(-1/3) is fitted
+// to single values of the series at two sizes, which is grain_efficiencies' shortcut. A coated
+// sphere has no geometric-optics model here: where its mantle absorbs everything that reaches
+// the core (2 k_mantle x (1 - f) >= 12) it is the homogeneous sphere of the mantle material;
+// otherwise its Q is the Hann-window average of its series over 4 interference periods at
+// three sizes per decade, interpolated (cubic in ln x). Either way a curve no longer sums
+// the series at every node up to the largest x.
 //
-// Accuracy (measured against the adaptive quadrature at tolerance 1e-8 with the exact series at
-// every size, see tests/grain_optics_test.cpp and README "Spectral means of transparent and
-// coated grains"): <Q_pr> within 1e-4 relative at every radius for the shipped materials.
+// Accuracy (README "Grains", tests/grain_optics_test.cpp): against the adaptive quadrature at
+// tolerance 1e-8 with the exact series at every size, or against this rule with panels a
+// quarter as wide and the exact series at every size, <Q_pr> is within 4e-5 relative and
+// <Q_abs> within 6e-5 for the shipped materials, porous ice-like and ice-coated grains.
 #include "grain_spectral_rule.hpp"
 
 #include <algorithm>

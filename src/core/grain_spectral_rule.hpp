@@ -51,7 +51,7 @@ class SmoothedGrainQ {
     double large_x() const { return large_x_; }
     const FixedRuleDensity& density() const { return density_; }
 
-    struct EdgeFit;    // geometric optics + a/x + b x^(-4/3), fitted to window averages
+    struct EdgeFit;    // geometric optics + R(x) / x, R from window averages of the series
     struct CoatedGrid; // window averages of the coated series on a log grid in x
 
   private:
@@ -120,7 +120,6 @@ class FixedRuleCurve {
                          const std::vector<double>& extra_kinks_um = {});
 
     const FixedRuleLattice& lattice() const { return lattice_; }
-    const SmoothedGrainQ& efficiencies() const { return *q_; }
 
   private:
     static constexpr int points = 8; // Gauss-Legendre points per panel

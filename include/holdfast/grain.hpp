@@ -175,6 +175,10 @@ struct GrainEfficiencySettings {
     // Q_abs within 6e-5 relative for k >= 1e-3, both within 1e-4 for k = 1e-4. Transparent spheres
     // (k = 0), coated spheres and indices where 2 x_c exceeds the series' range use the series
     // (geometric optics beyond its range). 0 turns the shortcut off.
+    // The spectral means below (starlight_*_mean, planck_qabs_mean) use a fixed quadrature rule
+    // for a wavelength-independent index and spectral.relative_tolerance >= 1e-7: there this
+    // is where their smooth large-sphere models start (for every k, and for coated spheres),
+    // rounded to the rule's panels; see src/core/grain_spectral_rule.cpp and README.
     double large_sphere_from_x = 1000.0;
 };
 
@@ -189,7 +193,10 @@ MieEfficiencies grain_efficiencies(const GrainOptics& optics, double radius_um,
                                    double wavelength_um,
                                    const GrainEfficiencySettings& settings = {});
 
-// <Q_pr>(s) over a spectrum, with the out-of-band choice applied once for all radii.
+// <Q_pr>(s) over a spectrum, with the out-of-band choice applied once for all radii. With a
+// wavelength-independent index the returned callable keeps every Q it computed (the fixed
+// rule's panels are the same for every radius), so a curve of many radii costs little more
+// than its largest one. Accurate to 1e-4 relative at the default tolerance (README).
 struct SpectralEfficiency {
     MeanEfficiency mean;                // radius_um -> <Q>
     WavelengthBand band;                // where the spectrum is integrated

@@ -324,7 +324,7 @@ void add_efficiency_options(CLI::App& app, EfficiencyOptions& o, const std::stri
     app.add_option(constant_option, o.constant, constant_help);
     app.add_option("--spectral-tolerance", o.spectral_tolerance,
                    "Relative tolerance of the spectral averages' quadrature, in [1e-10, 1e-2]; "
-                   "default 1e-5 (the means are then good to about 2e-5, see README)")
+                   "default 1e-5 (<Q_pr> is then good to 1e-4 or better, see README)")
         ->default_val("1e-5");
 }
 
@@ -453,9 +453,10 @@ std::vector<std::string> grain_assumptions(bool constant_efficiency, const Resol
                     "(a comparison model, not Mie theory)");
     } else {
         a.push_back(
-            "Compact spheres (or a concentric core and mantle), Mie theory; the "
-            "geometric optics with a fitted edge correction for large absorbing spheres (size "
-            "parameter above max(1000, 1/k)), within 1e-4 of the series");
+            "Compact spheres (or a concentric core and mantle), Mie theory; in the spectral "
+            "means above size parameter 1000 a sphere's Q comes from geometric optics with an "
+            "edge correction fitted to averages of the series, a coated sphere's from averages "
+            "of its series, within 1e-4 of the series in <Q_pr>");
         a.push_back("Porosity as vacuum inclusions through an effective-medium rule (valid for "
                     "inclusions much smaller than the wavelength)");
         for (const auto& l : material.assumptions)

@@ -28,6 +28,7 @@
 #include <string>
 #include <unordered_map>
 
+#include "grain_spectral_rule.hpp"
 #include "holdfast/errors.hpp"
 #include "holdfast/grain.hpp"
 
@@ -193,6 +194,17 @@ MieEfficiencies grain_efficiencies(const GrainOptics& optics, double radius_um,
 
 namespace {
 
+// Which quadrature a spectral mean uses. The fixed rule (grain_spectral_rule.cpp) is fast for
+// a grain whose index does not depend on wavelength (every shipped material, porous or coated),
+// including the nearly transparent ones on which the adaptive quadrature chases resonance
+// spikes for minutes. Tolerances tighter than it is built for (below 1e-7) and indices that
+// vary with wavelength (tabulated optical constants: see fixed_rule_suits) keep the adaptive
+// quadrature with the large-sphere shortcut of this file, which is also what the accuracy
+// tests use as their reference.
+bool use_fixed_rule(const GrainEfficiencySettings& settings) {
+    return settings.spectral.relative_tolerance >= detail::fixed_rule_tightest_tolerance;
+}
+
 SpectralEfficiency starlight_mean(const GrainOptics& optics,
                                   std::shared_ptr<const Spectrum> spectrum,
                                   const GrainEfficiencySettings& settings, bool pressure) {
@@ -207,13 +219,28 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
     const SpectralMeanSettings sm = settings.spectral;
     const GrainOptics po = p.optics;
     const WavelengthBand band = p.band;
+    auto q = use_fixed_rule(settings)
+                 ? std::make_shared<detail::SmoothedGrainQ>(
+                       po, x_large, detail::fixed_rule_density(sm.relative_tolerance))
+                 : nullptr;
+    const std::optional<detail::FixedRuleLattice> lattice =
+        q ? std::optional(detail::fixed_rule_lattice(*q, band)) : std::nullopt;
+    if (lattice && detail::fixed_rule_suits(*lattice)) {
+        auto curve = std::make_shared<detail::FixedRuleCurve>(q, *lattice);
+        const std::vector<double> kinks = sm.breakpoints_um;
+        out.mean = [curve, spectrum, band, kinks, pressure](double radius_um) {
+            const detail::FixedRuleMeans r = curve->means(*spectrum, band, radius_um, kinks);
+            return pressure ? r.q_pr : r.q_abs;
+        };
+        return out;
+    }
     auto cache = std::make_shared<EdgeFitCache>();
     out.mean = [po, band, sm, x_large, spectrum, pressure, cache](double radius_um) {
-        const std::function<double(double)> q = [&](double wavelength_um) {
+        const std::function<double(double)> qf = [&](double wavelength_um) {
             const MieEfficiencies e = cache->efficiencies(po, radius_um, wavelength_um, x_large);
             return pressure ? e.q_pr : e.q_abs;
         };
-        return spectral_mean(q, *spectrum, band, sm);
+        return spectral_mean(qf, *spectrum, band, sm);
     };
     return out;
 }
@@ -237,16 +264,39 @@ PlanckMean planck_qabs_mean(const GrainOptics& optics, double radius_um,
     check_grain_optics(optics);
     if (!(radius_um > 0.0) || !std::isfinite(radius_um))
         throw InputError("the grain radius must be positive");
+    const bool fixed = use_fixed_rule(settings);
+    const detail::FixedRuleDensity density =
+        detail::fixed_rule_density(settings.spectral.relative_tolerance);
     auto cache = std::make_shared<EdgeFitCache>();
-    return [optics, radius_um, settings, cache](double temperature_K) {
+    // One SmoothedGrainQ and one FixedRuleCurve for every temperature while the optics and
+    // the lattice stay the same: the panels are fixed in x, so a constant index meets the same
+    // size parameters at every temperature.
+    std::shared_ptr<detail::SmoothedGrainQ> q;
+    std::shared_ptr<detail::FixedRuleCurve> curve;
+    return [optics, radius_um, settings, fixed, density, cache, q,
+            curve](double temperature_K) mutable {
         const std::shared_ptr<const Spectrum> planck = planck_spectrum(kelvin(temperature_K));
         const Plan p = plan(optics, *planck, settings);
-        const std::function<double(double)> q = [&](double wavelength_um) {
+        if (fixed) {
+            if (!q || q->optics().core != p.optics.core || q->optics().mantle != p.optics.mantle) {
+                q = std::make_shared<detail::SmoothedGrainQ>(p.optics, settings.large_sphere_from_x,
+                                                             density);
+                curve.reset();
+            }
+            const detail::FixedRuleLattice lattice = detail::fixed_rule_lattice(*q, p.band);
+            if (detail::fixed_rule_suits(lattice)) {
+                if (!curve || !(curve->lattice() == lattice))
+                    curve = std::make_shared<detail::FixedRuleCurve>(q, lattice);
+                return curve->means(*planck, p.band, radius_um, settings.spectral.breakpoints_um)
+                    .q_abs;
+            }
+        }
+        const std::function<double(double)> qf = [&](double wavelength_um) {
             return cache
                 ->efficiencies(p.optics, radius_um, wavelength_um, settings.large_sphere_from_x)
                 .q_abs;
         };
-        return spectral_mean(q, *planck, p.band, settings.spectral);
+        return spectral_mean(qf, *planck, p.band, settings.spectral);
     };
 }
 

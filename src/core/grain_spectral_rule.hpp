@@ -1,0 +1,140 @@
+#pragma once
+// Private to holdfast_core: the fixed quadrature rule for spectrum-averaged grain efficiencies
+// (grain_spectral_rule.cpp explains the method and its measured accuracy; grain_optics.cpp
+// decides when it is used).
+#include <array>
+#include <complex>
+#include <cstddef>
+#include <memory>
+#include <optional>
+#include <unordered_map>
+#include <vector>
+
+#include "holdfast/grain.hpp"
+
+namespace holdfast::detail {
+
+// How fine the fixed rule is; fixed_rule_density maps a relative tolerance to it (the
+// defaults are for 1e-5; grain_spectral_rule.cpp gives the measured accuracy).
+struct FixedRuleDensity {
+    // Width in ln(x) of the coarse panels: every panel of the rule is one of these or a
+    // subdivision of one. Where Q is smooth (x below 2, no resonances yet; above the
+    // large-sphere limit, smooth models) they are used whole.
+    double coarse_ln_width = 0.0625;
+    // Narrowest subdivision where a weakly absorbing sphere has resonances (x from 2 to the
+    // large-sphere limit): there the panels are 12 k wide in ln x, but not below this.
+    double ripple_ln_width = 0.00125;
+    // Panels no longer than this many interference periods pi / nu in x.
+    double periods_per_panel = 0.5;
+};
+
+FixedRuleDensity fixed_rule_density(double relative_tolerance);
+
+// Tolerances tighter than this use the adaptive quadrature (spectral_mean.cpp) throughout.
+inline constexpr double fixed_rule_tightest_tolerance = 1e-7;
+
+// Efficiencies Q_pr and Q_abs of one grain as the fixed rule integrates them: the exact series
+// up to the large-sphere limit, smooth models above it (see grain_spectral_rule.cpp).
+class SmoothedGrainQ {
+  public:
+    // `large_x` 0: the exact series at every size (geometric optics beyond its range).
+    // Otherwise it is rounded to a coarse-panel edge and raised to at least 100.
+    SmoothedGrainQ(GrainOptics optics, double large_x, FixedRuleDensity density);
+
+    struct Value {
+        double q_pr = 0.0;
+        double q_abs = 0.0;
+    };
+    Value at(double wavelength_um, double x);
+
+    const GrainOptics& optics() const { return optics_; }
+    double large_x() const { return large_x_; }
+    const FixedRuleDensity& density() const { return density_; }
+
+    struct EdgeFit;    // geometric optics + R(x) / x, R from window averages of the series
+    struct CoatedGrid; // window averages of the coated series on a log grid in x
+
+  private:
+    struct IndexKey {
+        double core_re, core_im, mantle_re, mantle_im;
+        bool operator==(const IndexKey&) const = default;
+    };
+    struct IndexKeyHash {
+        std::size_t operator()(const IndexKey& k) const noexcept;
+    };
+
+    Value homogeneous(std::complex<double> m, double x);
+    Value coated(std::complex<double> m_core, std::complex<double> m_mantle, double x);
+
+    GrainOptics optics_;
+    double large_x_;
+    FixedRuleDensity density_;
+    std::unordered_map<IndexKey, std::shared_ptr<EdgeFit>, IndexKeyHash> fits_;
+    std::unordered_map<IndexKey, std::shared_ptr<CoatedGrid>, IndexKeyHash> grids_;
+};
+
+// The panels for one band: the density, the largest interference rate nu = max(|n - 1|, 0.1)
+// and the resonance panel width from the smallest k over the band and the grain's components,
+// and whether the index is the same at every wavelength (then Q depends on x alone).
+struct FixedRuleLattice {
+    FixedRuleDensity density;
+    double nu = 0.1;
+    double ripple_ln_width = 0.00125;
+    bool constant_index = false;
+    double smallest_k = 0.0;
+    double reference_wavelength_um = 1.0; // inside the band
+    bool operator==(const FixedRuleLattice& o) const {
+        return nu == o.nu && ripple_ln_width == o.ripple_ln_width &&
+               constant_index == o.constant_index &&
+               density.coarse_ln_width == o.density.coarse_ln_width &&
+               density.ripple_ln_width == o.density.ripple_ln_width &&
+               density.periods_per_panel == o.density.periods_per_panel;
+    }
+};
+FixedRuleLattice fixed_rule_lattice(const SmoothedGrainQ& q, const WavelengthBand& band);
+
+// Whether the fixed rule is the quick choice: with a constant index every Q is computed once
+// per curve. An index that varies with wavelength would need Q afresh at every radius, on
+// panels that resolve the interference structure, and the large-sphere model fitted afresh
+// at every wavelength above the large-sphere limit: the adaptive quadrature is cheaper there
+// (and as slow as before for nearly transparent tables).
+bool fixed_rule_suits(const FixedRuleLattice& lattice);
+
+struct FixedRuleMeans {
+    double q_pr = 0.0;
+    double q_abs = 0.0;
+};
+
+// <Q_pr>(s) and <Q_abs>(s) for one grain and one lattice: composite Gauss-Legendre in ln(x) on
+// panels fixed in x. With a constant index each coarse panel's Q is computed once and kept as
+// its product-integration weights (so a further radius costs 8 spectrum values per coarse
+// panel); otherwise Q is computed afresh at every radius.
+class FixedRuleCurve {
+  public:
+    FixedRuleCurve(std::shared_ptr<SmoothedGrainQ> q, FixedRuleLattice lattice);
+
+    // Panels are also cut at the kinks of tabulated optical constants (breakpoints_um) and at
+    // `extra_kinks_um`. Throws InputError for a radius that is not positive and finite,
+    // NumericalError if the spectrum has no flux in the band or a mean is not finite.
+    FixedRuleMeans means(const Spectrum& spectrum, const WavelengthBand& band, double radius_um,
+                         const std::vector<double>& extra_kinks_um = {});
+
+    const FixedRuleLattice& lattice() const { return lattice_; }
+
+  private:
+    static constexpr int points = 8; // Gauss-Legendre points per panel
+    struct Coarse {
+        int subdivisions = 1;
+        std::vector<double> q_pr, q_abs;            // at the fine nodes
+        std::array<double, points> w_pr{}, w_abs{}; // product-integration weights
+    };
+    int subdivisions(long j) const;
+    const Coarse& coarse(long j);
+
+    std::shared_ptr<SmoothedGrainQ> q_;
+    FixedRuleLattice lattice_;
+    long j_ripple_, j_top_; // coarse panels [j_ripple_, j_top_) have resonances
+    std::unordered_map<long, Coarse> cache_;
+};
+
+} // namespace holdfast::detail

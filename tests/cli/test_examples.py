@@ -22,21 +22,24 @@ expected_dir = examples / "expected"
 # 1e-4: the accuracy holdfast states for spectral means; tighter would fail on rounding
 # differences between CPUs (FMA or not) that steer the adaptive quadrature differently.
 REL = 1e-4
+# The radius where beta peaks sits on a flat maximum: a change of 1e-6 in beta moves it by
+# about 1e-3 relative (measured between quadrature rules), so it gets a looser tolerance.
+REL_BY_KEY = {"radius_at_beta_max_um": 1e-2}
 
 
-def same(a, b, where):
+def same(a, b, where, rel=REL):
     if isinstance(a, dict) and isinstance(b, dict):
         checks.check(a.keys() == b.keys(), f"{where}: keys differ: {set(a) ^ set(b)}")
         for k in a.keys() & b.keys():
             if k in ("holdfast_version", "git_hash") or k.endswith("_path"):
                 continue
-            same(a[k], b[k], f"{where}.{k}")
+            same(a[k], b[k], f"{where}.{k}", REL_BY_KEY.get(k, rel))
     elif isinstance(a, list) and isinstance(b, list):
         checks.check(len(a) == len(b), f"{where}: length {len(a)} vs {len(b)}")
         for i, (x, y) in enumerate(zip(a, b)):
-            same(x, y, f"{where}[{i}]")
+            same(x, y, f"{where}[{i}]", rel)
     elif isinstance(a, (int, float)) and isinstance(b, (int, float)) and not isinstance(a, bool):
-        checks.check(math.isclose(a, b, rel_tol=REL, abs_tol=1e-300),
+        checks.check(math.isclose(a, b, rel_tol=rel, abs_tol=1e-300),
                      f"{where}: {a} vs expected {b}")
     elif isinstance(a, str) and isinstance(b, str) and "/" in a and "tables" in a:
         pass  # paths to the tables folder differ between checkouts

@@ -65,7 +65,11 @@ void check_index(cplx m, std::string_view what) {
     }
 }
 
-bool within_mx_cap(cplx m, double x) { return std::abs(m) * x <= MieRange::mx_max_series; }
+bool within_mx_cap(cplx m, double x) {
+    // |m| x <= cap, compared squared: no hypot (slow) and no overflow for m checked in range.
+    const double mx2 = (m.real() * m.real() + m.imag() * m.imag()) * x * x;
+    return mx2 <= MieRange::mx_max_series * MieRange::mx_max_series;
+}
 
 void check_mx(cplx m, double x, std::string_view what) {
     if (!within_mx_cap(m, x)) {

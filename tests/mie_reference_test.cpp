@@ -181,3 +181,86 @@ TEST_CASE("fast series matches a 50-digit evaluation, x = 3e3 and 1e4", "[mie][r
         for (const double x : {3e3, 1e4})
             compare_with_reference(m, x);
 }
+
+// ---- The wide index range: metals, carbon, graphite, oxides near their reststrahlen bands ----
+// Indices of published optical constants (values rounded; the tables are in shared/data/nk):
+// 0.05+1.3i and 0.08+1.33i MgO periclase near its reststrahlen band (Synowicki & Tiwald
+// 2004), 4.9+10.9i amorphous carbon in the infrared (Hagemann et al. 1974), 12.8+9.3i
+// pyrolytic graphite (Querry 1985), 54.8+152.1i iron at 56 um (Querry 1985), 238.5+306i iron
+// at 286 um (Ordal et al. 1988); 30+40i, 60+80i, 100+100i, 1.5+50i and 0.02+5i fill in the
+// metal-like region; the rest are corners of MieRange (n 0.01 or 1000, k 0, 0.01 or 1000).
+// Tolerance: the same 1e-9 relative as above, on every efficiency including Q_back.
+
+TEST_CASE("fast series matches a 50-digit evaluation over the wide index range, x up to 100",
+          "[mie][reference]") {
+    const std::complex<double> indices[] = {
+        {0.05, 1.3},   {0.08, 1.33},   {4.9, 10.9},      {12.8, 9.3},    {30.0, 40.0},
+        {60.0, 80.0},  {100.0, 100.0}, {1.5, 50.0},      {0.02, 5.0},    {54.8, 152.1},
+        {238.5, 306},  {0.01, 0.0},    {0.01, 0.01},     {0.01, 1000.0}, {1.0, 1000.0},
+        {1000.0, 1.0}, {300.0, 300.0}, {1000.0, 1000.0}, {0.3, 0.0},     {30.0, 0.0}};
+    const double sizes[] = {1e-6, 1e-3, 0.05, 0.5, 1.0, 2.49, 2.51, 5.0, 10.0, 50.0, 100.0};
+    for (const auto m : indices)
+        for (const double x : sizes)
+            compare_with_reference(m, x);
+}
+
+TEST_CASE("fast series matches a 50-digit evaluation over the wide index range, x >= 1e3",
+          "[mie][reference][slow]") {
+    const std::complex<double> indices[] = {{0.05, 1.3},  {0.08, 1.33}, {4.9, 10.9},    {12.8, 9.3},
+                                            {30.0, 40.0}, {60.0, 80.0}, {100.0, 100.0}, {1.5, 50.0},
+                                            {0.02, 5.0},  {238.5, 306}};
+    for (const auto m : indices)
+        compare_with_reference(m, 1e3);
+    // Larger spheres, and the cap |m| x <= 2e6 itself (1000+1000i at x = 1400: |m| x = 1.98e6).
+    compare_with_reference({0.05, 1.3}, 1e4);
+    compare_with_reference({12.8, 9.3}, 1e4);
+    compare_with_reference({1.5, 50.0}, 1e4);
+    compare_with_reference({100.0, 100.0}, 3e3);
+    compare_with_reference({1000.0, 1000.0}, 1400.0);
+}
+
+namespace {
+
+void compare_ill_conditioned(double n, double x) {
+    // Non-absorbing spheres of high index have resonances so sharp that a change of one unit
+    // in the last place (ulp) of n or x moves Q_ext by up to ~5e-10 and Q_back by up to
+    // ~2e-7 (measured for n = 1000 with test::reference_mie at the perturbed inputs): the
+    // condition of the problem itself, which no double-precision evaluation can beat.
+    // Tolerance: 1e-9, or 4 times that one-ulp change where it is larger (the fast code rounds
+    // n x, 1/(n x), ... once each, so a few ulp of effective input error are expected).
+    const auto ref = test::reference_mie(n, 0.0, x);
+    const auto by_n = test::reference_mie(std::nextafter(n, 2.0 * n), 0.0, x);
+    const auto by_x = test::reference_mie(n, 0.0, std::nextafter(x, 2.0 * x));
+    const MieEfficiencies q = mie_sphere({n, 0.0}, x);
+    INFO("m = " << n << " + 0i, x = " << x);
+    for (double v : {q.q_ext, q.q_sca, q.q_abs, q.q_back, q.g, q.q_pr})
+        REQUIRE(std::isfinite(v));
+    auto check = [&](double got, double want, double want_n, double want_x, const char* what) {
+        const double ulp_change =
+            std::max(std::abs(want_n - want), std::abs(want_x - want)) / std::abs(want);
+        const double tol = std::max(1e-9, 4.0 * ulp_change);
+        INFO(what << ": computed " << got << ", 50-digit " << want << ", tolerance " << tol);
+        CHECK(std::abs(got - want) <= tol * std::abs(want));
+    };
+    check(q.q_ext, ref.q_ext, by_n.q_ext, by_x.q_ext, "q_ext");
+    check(q.q_sca, ref.q_sca, by_n.q_sca, by_x.q_sca, "q_sca");
+    check(q.g, ref.g, by_n.g, by_x.g, "g");
+    check(q.q_pr, ref.q_pr, by_n.q_pr, by_x.q_pr, "q_pr");
+    check(q.q_back, ref.q_back, by_n.q_back, by_x.q_back, "q_back");
+    CHECK(q.q_abs == 0.0); // k = 0: every term of the Wronskian sum is zero
+}
+
+} // namespace
+
+TEST_CASE("non-absorbing high-index spheres agree to the problem's own condition",
+          "[mie][reference]") {
+    for (const double n : {100.0, 300.0, 1000.0})
+        for (const double x : {1.0, 5.0, 20.0, 50.0, 100.0, 150.0})
+            compare_ill_conditioned(n, x);
+}
+
+TEST_CASE("non-absorbing high-index spheres, x up to 1e3", "[mie][reference][slow]") {
+    compare_ill_conditioned(100.0, 1000.0);
+    compare_ill_conditioned(1000.0, 400.0);
+    compare_ill_conditioned(1000.0, 1000.0);
+}

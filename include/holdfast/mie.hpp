@@ -19,14 +19,27 @@ struct MieEfficiencies {
 };
 
 // The documented range of the exact series (mie_sphere, mie_coated_sphere). Inside it the
-// efficiencies agree with a 50-digit evaluation of the same series to a relative 1e-9 or
-// better (tests/mie_reference_test.cpp); outside it the functions throw InputError.
+// efficiencies Q_ext, Q_sca, Q_abs (where above 1e-6), g and Q_pr agree with a 50-digit
+// evaluation of the same series to a relative 1e-9 or better (tests/mie_reference_test.cpp,
+// which also states the accuracy of Q_back); outside it the functions throw InputError.
+// The index range covers published optical constants of grain materials: metals in the far
+// infrared (iron: n, k of a few hundred), graphite and amorphous carbon (n, k ~ 10-20), and
+// oxides near their reststrahlen bands (n down to ~0.02 with k ~ 1).
+// Non-absorbing spheres of large n (k = 0, n >~ 100) are ill-conditioned near their sharp
+// resonances: one unit in the last place of n or x changes Q_ext by up to ~5e-10 (Q_back by
+// ~2e-7) there, so no double-precision evaluation can do better; the tests hold them to 1e-9
+// or four times that one-ulp change, whichever is larger.
 struct MieRange {
     static constexpr double x_min = 1e-6;       // size parameter, inclusive
     static constexpr double x_max_series = 1e5; // size parameter, inclusive
-    static constexpr double n_min = 0.1;        // real part of m, inclusive
-    static constexpr double n_max = 10.0;       // real part of m, inclusive
-    static constexpr double k_max = 10.0;       // imaginary part of m, 0 <= k <= k_max
+    static constexpr double n_min = 0.01;       // real part of m, inclusive
+    static constexpr double n_max = 1000.0;     // real part of m, inclusive
+    static constexpr double k_max = 1000.0;     // imaginary part of m, 0 <= k <= k_max
+    // |m| x, inclusive. The downward D_n(mx) recurrence starts above |m| x, so its cost (not
+    // its memory: only N = mie_series_terms(x) values are kept) grows with |m| x: about 3 ms
+    // per call at the cap. Above it mie_sphere refuses and mie_sphere_any_size uses geometric
+    // optics; the cap keeps x >= 1414 there (> x_min_geometric) for every index in range.
+    static constexpr double mx_max_series = 2e6;
     // The geometric-optics approximation (mie_geometric_optics) accepts x from here up to
     // x_max_geometric; its error against the series is stated in README and mie.cpp.
     static constexpr double x_min_geometric = 100.0;
@@ -41,7 +54,8 @@ struct MieRange {
 int mie_series_terms(double x);
 
 // Homogeneous sphere. Plain doubles: this is the hot kernel. Throws InputError outside
-// MieRange (x in [x_min, x_max_series], n in [n_min, n_max], k in [0, k_max]).
+// MieRange (x in [x_min, x_max_series], n in [n_min, n_max], k in [0, k_max],
+// |m| x <= mx_max_series).
 MieEfficiencies mie_sphere(std::complex<double> m, double x);
 
 // The same, from a grain radius and a wavelength in vacuum (or in the surrounding medium).
@@ -49,7 +63,8 @@ MieEfficiencies mie_sphere(std::complex<double> m, Length radius, Length wavelen
 
 // Coated sphere: core of index m_core and size parameter x_core inside a mantle of index
 // m_mantle whose outer size parameter is x_outer (x_core <= x_outer). Toon & Ackerman (1981).
-// Same range as mie_sphere for both indices and x_outer; 0 <= x_core <= x_outer.
+// Same range as mie_sphere for both indices and x_outer (|m_mantle| x_outer and
+// |m_core| x_core each at most mx_max_series); 0 <= x_core <= x_outer.
 MieEfficiencies mie_coated_sphere(std::complex<double> m_core, std::complex<double> m_mantle,
                                   double x_core, double x_outer);
 
@@ -64,8 +79,9 @@ MieEfficiencies mie_perfect_conductor(double x);
 // and quoted in README ("Mie efficiencies").
 MieEfficiencies mie_geometric_optics(std::complex<double> m, double x);
 
-// The exact series up to MieRange::x_max_series and the geometric-optics approximation
-// above it (up to x_max_geometric). `used_series` (if given) tells which one ran.
+// The exact series up to MieRange::x_max_series and |m| x <= MieRange::mx_max_series, the
+// geometric-optics approximation beyond either (up to x_max_geometric). `used_series` (if
+// given) tells which one ran.
 MieEfficiencies mie_sphere_any_size(std::complex<double> m, double x, bool* used_series = nullptr);
 
 } // namespace holdfast

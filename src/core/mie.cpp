@@ -11,9 +11,12 @@
 //  - G. W. Kattawar & G. N. Plass (1967), Appl. Opt. 6, 1377: D_n upward is unstable for
 //    absorbing spheres; downward is stable.
 //
-// Range (MieRange in mie.hpp): 1e-6 <= x <= 1e5, 0.1 <= n <= 10, 0 <= k <= 10. Inside it the
-// results agree with a 50-digit evaluation of the series to a relative 1e-9
-// (tests/mie_reference_test.cpp).
+// Range (MieRange in mie.hpp): 1e-6 <= x <= 1e5, 0.01 <= n <= 1000, 0 <= k <= 1000,
+// |m| x <= 2e6. Inside it the results agree with a 50-digit evaluation of the series to a
+// relative 1e-9 (tests/mie_reference_test.cpp). Large |m| needs nothing special: D_n is kept
+// only for n <= N (its start above |m| x costs time, not memory), the small-x form holds for
+// |mx| up to 2.5 |m|, and Q_abs from the Wronskian form keeps full precision where a metal
+// absorbs little of what it scatters.
 //
 // Small spheres. Wiscombe (1979, NCAR/TN-140) switches to truncated small-particle
 // expansions where the plain series loses digits. Here the series itself is rearranged
@@ -58,6 +61,24 @@ void check_index(cplx m, std::string_view what) {
                       ": refractive index %s is outside the range of the Mie series: "
                       "n in [%g, %g], k in [0, %g]",
                       format_index(m).c_str(), MieRange::n_min, MieRange::n_max, MieRange::k_max);
+        throw InputError(std::string(what) + buf);
+    }
+}
+
+bool within_mx_cap(cplx m, double x) {
+    // |m| x <= cap, compared squared: no hypot (slow) and no overflow for m checked in range.
+    const double mx2 = (m.real() * m.real() + m.imag() * m.imag()) * x * x;
+    return mx2 <= MieRange::mx_max_series * MieRange::mx_max_series;
+}
+
+void check_mx(cplx m, double x, std::string_view what) {
+    if (!within_mx_cap(m, x)) {
+        char buf[240];
+        std::snprintf(buf, sizeof buf,
+                      ": |m| x = %g (m = %s, x = %g) is above the series' limit |m| x <= %g "
+                      "(the cost of the D_n recurrence grows with |m| x); larger homogeneous "
+                      "spheres take the geometric-optics approximation (mie_sphere_any_size)",
+                      std::abs(m) * x, format_index(m).c_str(), x, MieRange::mx_max_series);
         throw InputError(std::string(what) + buf);
     }
 }
@@ -141,7 +162,7 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
     std::array<cplx, detail::small_x_max_terms + 1> rz{};
     detail::riccati_psi_small(x, n_terms, psi.data(), rx.data());
 
-    // r_n(mx) downward, as for r_n(x) but from above |mx| (|mx| <= 36 here).
+    // r_n(mx) downward, as for r_n(x) but from above |mx| (|mx| < 2.5 |m| <= 3536 here).
     detail::psi_ratio_downward(m * x, n_terms, rz.data());
 
     const cplx m2 = m * m;
@@ -273,9 +294,11 @@ class UpwardRiccati {
 // which is what keeps the plain recurrence stable (tests/mie_reference_test.cpp compares
 // with a 50-digit serial evaluation). Common factors are irrelevant to D_n, so each lane is
 // rescaled by an exact power of two when it grows (checked every `rescale_every` steps in A,
-// every `width` steps in C: a step grows a vector by at most |a_n| + 1, below 50 where the
-// lanes run and below 400 anywhere in the documented range, so 8 steps from below `big`
-// stay far from overflow, also when squared in |psi_{n-1}|^2).
+// every `width` steps in C: a step grows a vector by at most |a_n| + 1 = (2n + 1)/|mx| + 1.
+// The lanes run only for start > serial_max_steps, i.e. N or |mx| near 80 or more; with
+// |m| >= n_min = 0.01 that bound peaks at 356 (x ~ 55, |mx| ~ 0.55), so 8 steps from below
+// `big` stay below 2e90 * 356^8 ~ 6e110, far from overflow also when squared in
+// |psi_{n-1}|^2; the serial form checks every step).
 constexpr int rescale_every = 8;
 constexpr double big = 0x1p+300;    // ~2e90
 constexpr double shrink = 0x1p-300; // exact inverse of big
@@ -787,6 +810,7 @@ int mie_series_terms(double x) { return static_cast<int>(std::ceil(x + 6.0 * std
 MieEfficiencies mie_sphere(std::complex<double> m, double x) {
     detail::check_index(m, "mie_sphere");
     detail::check_size_parameter(x, MieRange::x_max_series, "mie_sphere");
+    detail::check_mx(m, x, "mie_sphere");
     const int n_terms = mie_series_terms(x);
     const MieEfficiencies q =
         x < detail::small_x_limit ? sphere_small(m, x, n_terms) : sphere_large(m, x, n_terms);
@@ -840,7 +864,11 @@ MieEfficiencies mie_perfect_conductor(double x) {
 }
 
 MieEfficiencies mie_sphere_any_size(std::complex<double> m, double x, bool* used_series) {
-    const bool series = x <= MieRange::x_max_series;
+    // For every index in range the cap on |m| x leaves x >= x_min_geometric where it applies.
+    static_assert(MieRange::mx_max_series / 1415.0 >= MieRange::x_min_geometric &&
+                  MieRange::n_max * MieRange::n_max + MieRange::k_max * MieRange::k_max <=
+                      1415.0 * 1415.0);
+    const bool series = x <= MieRange::x_max_series && detail::within_mx_cap(m, x);
     if (used_series) *used_series = series;
     return series ? mie_sphere(m, x) : mie_geometric_optics(m, x);
 }

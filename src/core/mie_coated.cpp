@@ -81,6 +81,8 @@ MieEfficiencies mie_coated_sphere(std::complex<double> m_core, std::complex<doub
     detail::check_size_parameter(x_outer, MieRange::x_max_series, "mie_coated_sphere (outer)");
     if (!(x_core >= 0.0 && x_core <= x_outer))
         throw InputError("mie_coated_sphere: the core size parameter must be in [0, x_outer]");
+    detail::check_mx(m_mantle, x_outer, "mie_coated_sphere (mantle)");
+    detail::check_mx(m_core, x_core, "mie_coated_sphere (core)");
     // A core below 1e-6 of the outer radius holds less than 1e-18 of the volume: the grain is
     // the mantle alone to within rounding (and n/z1 would overflow as x_core -> 0).
     if (x_core < 1e-6 * x_outer) return mie_sphere(m_mantle, x_outer);

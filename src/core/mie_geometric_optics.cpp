@@ -155,7 +155,7 @@ MieEfficiencies mie_geometric_optics(std::complex<double> m, double x) {
 
     MieEfficiencies q;
     q.q_ext = 2.0 + edge_coefficient * std::pow(x, -2.0 / 3.0);
-    q.q_abs = q_abs;
+    q.q_abs = std::max(0.0, q_abs); // 1 - R - T rounds to ~-1e-20 for k = 0 and large n
     q.q_sca = q.q_ext - q_abs;
     q.q_pr = q_pr;
     q.g = (q.q_ext - q.q_pr) / q.q_sca;

@@ -22,6 +22,9 @@ inline constexpr int small_x_max_terms = 32;
 
 // Throws InputError when m is outside MieRange; `what` names the argument.
 void check_index(cplx m, std::string_view what);
+// Whether |m| x is within MieRange::mx_max_series; check_mx throws InputError if not.
+bool within_mx_cap(cplx m, double x);
+void check_mx(cplx m, double x, std::string_view what);
 // Throws InputError unless x_min <= x <= x_max; `what` names the argument.
 void check_size_parameter(double x, double x_max, std::string_view what);
 std::string format_index(cplx m);

@@ -2,6 +2,8 @@
 // tabulated spectra.
 #include <catch2/catch.hpp>
 
+#include "blackbody_reference.hpp"
+
 #include <cmath>
 #include <cstdio>
 #include <filesystem>
@@ -36,24 +38,7 @@ struct TempFile {
     ~TempFile() { std::filesystem::remove(path); }
 };
 
-// Fraction of blackbody flux below lambda, computed here independently of the library: the
-// exponential series of Widger & Woodall (1976) summed to 200000 terms (exact to rounding
-// for x >= 0.05 that the tests use).
-double reference_fraction_below(double wavelength_um, double t_K) {
-    const double c2 =
-        constants::planck_J_s * constants::speed_of_light_m_s / constants::boltzmann_J_K * 1e6;
-    const double x = c2 / (wavelength_um * t_K);
-    long double sum = 0.0L;
-    for (int n = 1; n <= 200000; ++n) {
-        const long double dn = n;
-        const long double term =
-            std::exp(-dn * x) / dn *
-            (x * x * x + 3.0L * x * x / dn + 6.0L * x / (dn * dn) + 6.0L / (dn * dn * dn));
-        sum += term;
-        if (term < 1e-22L * sum) break;
-    }
-    return static_cast<double>(sum * 15.0L / std::pow(std::numbers::pi_v<long double>, 4));
-}
+using holdfast::test::reference_fraction_below;
 
 } // namespace
 

@@ -284,3 +284,20 @@ TEST_CASE("shipped constants are near laboratory values in the visible", "[mater
         CHECK(shipped("iron").imag() == Approx(fe.imag()).epsilon(0.15));
     }
 }
+
+TEST_CASE("a table's band edges survive the ln-lambda round trip of the quadrature", "[material]") {
+    // Kitamura et al. (2007) silica starts exactly at 7 um; a quadrature node at
+    // exp(ln 7) can land one rounding error below it. Regression for that refusal.
+    NkTable table;
+    table.rows = {{7.0, 1.09, 1.5e-4}, {20.0, 1.5, 0.5}, {50.0, 2.0, 0.1}};
+    table.source = "edge test";
+    const auto optics = tabulated_index(table);
+    for (double w : {7.0 * (1.0 - 4e-16), std::nextafter(7.0, 0.0), std::exp(std::log(7.0))}) {
+        const auto m = optics->index_at_um(w);
+        CHECK(m.real() == Approx(1.09).epsilon(1e-12));
+    }
+    CHECK(optics->index_at_um(std::nextafter(50.0, 100.0)).real() == Approx(2.0));
+    // Beyond rounding the table still refuses.
+    CHECK_THROWS_AS(optics->index_at_um(7.0 * (1.0 - 1e-9)), InputError);
+    CHECK_THROWS_AS(optics->index_at_um(50.0 * (1.0 + 1e-9)), InputError);
+}

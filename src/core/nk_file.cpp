@@ -107,6 +107,13 @@ class TabulatedIndex final : public OpticalConstants {
         }
     }
     std::complex<double> index_at_um(double wavelength_um) const override {
+        // Quadrature nodes come from exp(ln lambda): at a band edge set to the table's end they
+        // can land a rounding error outside it. Within 1e-12 relative, take the end row.
+        constexpr double edge_slack = 1e-12;
+        if (wavelength_um < wl_.front() && wavelength_um >= wl_.front() * (1.0 - edge_slack))
+            wavelength_um = wl_.front();
+        if (wavelength_um > wl_.back() && wavelength_um <= wl_.back() * (1.0 + edge_slack))
+            wavelength_um = wl_.back();
         if (!(wavelength_um >= wl_.front() && wavelength_um <= wl_.back()))
             throw InputError("optical constants " + table_.source + " cover " + num(wl_.front()) +
                              "-" + num(wl_.back()) + " um; asked for " + num(wavelength_um) +

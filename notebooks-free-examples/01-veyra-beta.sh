@@ -4,19 +4,15 @@
 # light blow out? beta(s) from Mie theory averaged over a 4900 K Planck spectrum.
 set -euo pipefail
 here="$(cd "$(dirname "$0")" && pwd)"
-holdfast="${HOLDFAST:-$here/../build/holdfast}"
-out="${HOLDFAST_EXAMPLES_OUT:-$here/out}"
-mkdir -p "$out"
-
-star=(--luminosity 0.34 Lsun --mass 0.78 Msun --teff 4900 K)
+. "$here/common.sh"
 
 # The beta curve, as CSV for plotting elsewhere.
-"$holdfast" beta "${star[@]}" --material silicate --radii 0.01um..100um --points 60 \
+"$holdfast" beta "${veyra[@]}" --material silicate --radii 0.01um..100um --points 60 \
     --format csv --output "$out/01-veyra-beta.csv"
 
 # Blow-out radii for a circular parent (beta_crit = 1/2), compact and 50% porous grains.
-"$holdfast" blowout "${star[@]}" --material silicate --format json \
+"$holdfast" blowout "${veyra[@]}" --material silicate --format json \
     --output "$out/01-veyra-blowout-compact.json"
-"$holdfast" blowout "${star[@]}" --material silicate --porosity 0.5 --format json \
+"$holdfast" blowout "${veyra[@]}" --material silicate --porosity 0.5 --format json \
     --output "$out/01-veyra-blowout-porous.json"
-"$holdfast" blowout "${star[@]}" --material silicate --porosity 0.5
+"$holdfast" blowout "${veyra[@]}" --material silicate --porosity 0.5

@@ -4,14 +4,10 @@
 # beta >= (1 - e)/2 = 0.035, far smaller than the circular-orbit 1/2.
 set -euo pipefail
 here="$(cd "$(dirname "$0")" && pwd)"
-holdfast="${HOLDFAST:-$here/../build/holdfast}"
-out="${HOLDFAST_EXAMPLES_OUT:-$here/out}"
-mkdir -p "$out"
+. "$here/common.sh"
 
-star=(--luminosity 0.34 Lsun --mass 0.78 Msun --teff 4900 K)
-
-"$holdfast" blowout "${star[@]}" --material carbon --eccentricity 0.93 --release pericentre \
+"$holdfast" blowout "${veyra[@]}" --material carbon --eccentricity 0.93 --release pericentre \
     --distance 0.12 au --grain-radius 20 um --format json \
     --output "$out/02-comet-release.json"
-"$holdfast" blowout "${star[@]}" --material carbon --eccentricity 0.93 --release pericentre \
+"$holdfast" blowout "${veyra[@]}" --material carbon --eccentricity 0.93 --release pericentre \
     --distance 0.12 au --grain-radius 20 um

@@ -5,14 +5,10 @@
 # material has a constant index, so the thermal-infrared emission is only indicative.
 set -euo pipefail
 here="$(cd "$(dirname "$0")" && pwd)"
-holdfast="${HOLDFAST:-$here/../build/holdfast}"
-out="${HOLDFAST_EXAMPLES_OUT:-$here/out}"
-mkdir -p "$out"
+. "$here/common.sh"
 
-star=(--luminosity 0.34 Lsun --mass 0.78 Msun --teff 4900 K)
-
-"$holdfast" temperature "${star[@]}" --material carbon --grain-radius 10 um \
+"$holdfast" temperature "${veyra[@]}" --material carbon --grain-radius 10 um \
     --distances 1au..100au --points 12 --sublimation-temperature 110 K \
     --format csv --output "$out/03-ring-temperature.csv"
-"$holdfast" temperature "${star[@]}" --material carbon --grain-radius 10 um \
+"$holdfast" temperature "${veyra[@]}" --material carbon --grain-radius 10 um \
     --distances 1au..100au --points 12 --sublimation-temperature 110 K

@@ -4,9 +4,7 @@
 # rate powers it? Accretion onto a surface: eta = G M / (R c^2).
 set -euo pipefail
 here="$(cd "$(dirname "$0")" && pwd)"
-holdfast="${HOLDFAST:-$here/../build/holdfast}"
-out="${HOLDFAST_EXAMPLES_OUT:-$here/out}"
-mkdir -p "$out"
+. "$here/common.sh"
 
 # Solar-mix gas (X = 0.7) is closer to what a neutron star accretes from a normal companion.
 "$holdfast" eddington --mass 1.6 Msun --hydrogen 0.7 \

@@ -833,30 +833,15 @@ MieEfficiencies mie_perfect_conductor(double x) {
     const int n_terms = mie_series_terms(x);
     // |m| -> infinity in BH eq. (4.88): a_n = psi_n'(x) / xi_n'(x), b_n = psi_n(x) / xi_n(x),
     // i.e. G_a = n/x and b_n = psi_n / (psi_n - i chi_n). Nothing is absorbed.
-    std::array<double, detail::small_x_max_terms + 1> psi_small{};
-    std::array<double, detail::small_x_max_terms + 1> ratio{};
-    const bool small = x < detail::small_x_limit;
-    if (small && n_terms > detail::small_x_max_terms)
-        throw InternalError("Mie small-x path asked for more terms than it holds");
-    if (small) detail::riccati_psi_small(x, n_terms, psi_small.data(), ratio.data());
-    const double inv_x = 1.0 / x;
-    double psi_prev = std::sin(x);
-    double chi_prev = std::cos(x);
-    double psi = small ? psi_small[1] : psi_prev * inv_x - chi_prev;
-    double chi = chi_prev * inv_x + psi_prev;
+    detail::RiccatiUpward rb(x, n_terms);
     detail::MieSums sums;
     for (int n = 1; n <= n_terms; ++n) {
-        const double ga = n * inv_x;
+        const double ga = n * rb.inv_x;
         sums.add(n,
-                 detail::coefficient(cplx(ga, 0.0), cplx(ga * psi - psi_prev, 0.0), chi, chi_prev),
-                 detail::coefficient_pq(cplx(psi, 0.0), cplx(chi, 0.0), 0.0));
-        const double f = (2.0 * n + 1.0) * inv_x;
-        const double psi_next = small ? psi_small[std::min(n + 1, n_terms)] : f * psi - psi_prev;
-        const double chi_next = f * chi - chi_prev;
-        psi_prev = psi;
-        psi = psi_next;
-        chi_prev = chi;
-        chi = chi_next;
+                 detail::coefficient(cplx(ga, 0.0), cplx(ga * rb.psi - rb.psi_prev, 0.0), rb.chi,
+                                     rb.chi_prev),
+                 detail::coefficient_pq(cplx(rb.psi, 0.0), cplx(rb.chi, 0.0), 0.0));
+        rb.advance(n);
     }
     MieEfficiencies q = sums.finish(x);
     check_finite(q, cplx(0.0, 0.0), x);

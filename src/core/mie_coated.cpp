@@ -107,17 +107,7 @@ MieEfficiencies mie_coated_sphere(std::complex<double> m_core, std::complex<doub
     cplx q_ratio = (e2 - std::exp(2.0 * imag_unit * (z2 - z1))) / (e2 - 1.0);
 
     // Riccati-Bessel functions of the real outer size parameter, as for the homogeneous sphere.
-    std::array<double, detail::small_x_max_terms + 1> psi_small{};
-    std::array<double, detail::small_x_max_terms + 1> ratio{};
-    const bool small = x_outer < detail::small_x_limit;
-    if (small && n_terms > detail::small_x_max_terms)
-        throw InternalError("Mie small-x path asked for more terms than it holds");
-    if (small) detail::riccati_psi_small(x_outer, n_terms, psi_small.data(), ratio.data());
-    const double inv_x = 1.0 / x_outer;
-    double psi_prev = std::sin(x_outer);
-    double chi_prev = std::cos(x_outer);
-    double psi = small ? psi_small[1] : psi_prev * inv_x - chi_prev;
-    double chi = chi_prev * inv_x + psi_prev;
+    detail::RiccatiUpward rb(x_outer, n_terms);
     const cplx inv_m2 = 1.0 / m_mantle;
 
     detail::MieSums sums;
@@ -137,18 +127,12 @@ MieEfficiencies mie_coated_sphere(std::complex<double> m_core, std::complex<doub
         const cplx g2b = m_core * d_core[n] - m_mantle * d3_inner;
         const cplx hb = (g2b * d1_outer - q_ratio * g1b * d3_outer) / (g2b - q_ratio * g1b);
 
-        const double nx = n * inv_x;
+        const double nx = n * rb.inv_x;
         const cplx ga = ha * inv_m2 + nx;
         const cplx gb = m_mantle * hb + nx;
-        sums.add(n, detail::coefficient(ga, ga * psi - psi_prev, chi, chi_prev),
-                 detail::coefficient(gb, gb * psi - psi_prev, chi, chi_prev));
-        const double f = (2.0 * n + 1.0) * inv_x;
-        const double psi_next = small ? psi_small[std::min(n + 1, n_terms)] : f * psi - psi_prev;
-        const double chi_next = f * chi - chi_prev;
-        psi_prev = psi;
-        psi = psi_next;
-        chi_prev = chi;
-        chi = chi_next;
+        sums.add(n, detail::coefficient(ga, ga * rb.psi - rb.psi_prev, rb.chi, rb.chi_prev),
+                 detail::coefficient(gb, gb * rb.psi - rb.psi_prev, rb.chi, rb.chi_prev));
+        rb.advance(n);
     }
     const MieEfficiencies q = sums.finish(x_outer);
     if (!std::isfinite(q.q_ext) || !std::isfinite(q.q_sca) || !std::isfinite(q.q_abs) ||

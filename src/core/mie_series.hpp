@@ -2,11 +2,14 @@
 // Pieces shared by the Mie kernels in this folder (private to holdfast_core).
 // References: C. F. Bohren & D. R. Huffman (1983), "Absorption and Scattering of Light by
 // Small Particles", Wiley (BH below), chapter 4; W. J. Wiscombe (1980), Appl. Opt. 19, 1505.
+#include <algorithm>
+#include <array>
 #include <cmath>
 #include <complex>
 #include <string>
 #include <string_view>
 
+#include "holdfast/errors.hpp"
 #include "holdfast/mie.hpp"
 
 namespace holdfast::detail {
@@ -136,5 +139,43 @@ void psi_ratio_downward(cplx z, int n_terms, cplx* r);
 // from the downward continued-fraction recurrence r_{n-1} = 1 / ((2n+1)/x - r_n) and
 // psi_n = psi_{n-1} r_{n-1} from psi_0 = sin x, so no digit is lost for small x.
 void riccati_psi_small(double x, int n_terms, double* psi, double* ratio);
+
+// Riccati-Bessel psi_n(x) and chi_n(x) of a real size parameter, stepped upward from n = 1 for
+// the scalar series loops (perfect conductor, coated sphere). chi by upward recurrence, which
+// is stable; psi likewise above small_x_limit, and below it from riccati_psi_small, where
+// upward recurrence would lose digits.
+class RiccatiUpward {
+  public:
+    RiccatiUpward(double x, int n_terms)
+        : inv_x(1.0 / x), n_terms_(n_terms), small_(x < small_x_limit) {
+        if (small_ && n_terms > small_x_max_terms)
+            throw InternalError("Mie small-x path asked for more terms than it holds");
+        if (small_) riccati_psi_small(x, n_terms, psi_small_.data(), ratio_.data());
+        psi_prev = std::sin(x);
+        chi_prev = std::cos(x);
+        psi = small_ ? psi_small_[1] : psi_prev * inv_x - chi_prev;
+        chi = chi_prev * inv_x + psi_prev;
+    }
+    // From order n to n + 1.
+    void advance(int n) {
+        const double f = (2.0 * n + 1.0) * inv_x;
+        const double psi_next = small_ ? psi_small_[std::min(n + 1, n_terms_)] : f * psi - psi_prev;
+        const double chi_next = f * chi - chi_prev;
+        psi_prev = psi;
+        psi = psi_next;
+        chi_prev = chi;
+        chi = chi_next;
+    }
+
+    const double inv_x;
+    double psi = 0.0, psi_prev = 0.0; // psi_n, psi_{n-1}
+    double chi = 0.0, chi_prev = 0.0; // chi_n, chi_{n-1}
+
+  private:
+    int n_terms_;
+    bool small_;
+    std::array<double, small_x_max_terms + 1> psi_small_{};
+    std::array<double, small_x_max_terms + 1> ratio_{};
+};
 
 } // namespace holdfast::detail

@@ -187,8 +187,17 @@ TEST_CASE("HOLDFAST_TABLES points the core at another tables folder", "[material
     CHECK(shipped_material("tabled").optics->max_wavelength_um() == 10.0);
     CHECK_THROWS_WITH(shipped_material("broken"), Contains("density_g_cm3") && Contains("missing"));
     ::unsetenv("HOLDFAST_TABLES");
+    // The same folder passed in explicitly, as a program linking an installed library does.
+    CHECK(shipped_material_names(dir.string()) ==
+          std::vector<std::string>{"broken", "glass", "tabled"});
+    const Material glass = shipped_material("glass", dir.string());
+    CHECK(glass.file == (dir / "materials" / "glass.toml").string());
     fs::remove_all(dir);
-    CHECK(tables_directory() == std::string(HOLDFAST_TABLES_DIR));
+    // Without the variable: this test program is not in an installed bin/, so the source
+    // tree's tables/ folder.
+    CHECK(tables_directory() == std::string(HOLDFAST_SOURCE_DIR) + "/tables");
+    CHECK(shipped_material("silicate").file ==
+          std::string(HOLDFAST_SOURCE_DIR) + "/tables/materials/silicate.toml");
 }
 
 TEST_CASE("reference nk tables read, check and agree with their YAML", "[material][shared]") {

@@ -166,19 +166,34 @@ struct Material {
     MassDensity density;
     std::string provenance; // where each number comes from, several lines
     std::string limits;     // one line for Report::assumptions: where the model is not valid
+    std::string file;       // the material file it was read from
 };
 
-// Folder of the data files shipped with holdfast: the environment variable HOLDFAST_TABLES
-// if set and not empty (for an installed copy or a test), else the source tree's tables/
-// folder (compile definition HOLDFAST_TABLES_DIR). The only place the core reads the
-// environment.
+// Folder of the data files shipped with holdfast (tables/, holding materials/). Looked for in
+// this order; the first that applies wins:
+//  1. the environment variable HOLDFAST_TABLES, if set and not empty (taken as given, even if
+//     the folder does not exist, so that a wrong setting shows up in the error that follows);
+//  2. the installed layout next to the running program: <folder of the executable>/
+//     ../share/holdfast/tables (PREFIX/bin/holdfast beside PREFIX/share/holdfast/tables), if
+//     that folder exists. The executable is found through /proc/self/exe (Linux), so an
+//     installed tree works wherever its prefix is and after it is moved;
+//  3. the source tree's tables/ folder this library was built from, if it still exists (a
+//     program run from the build tree).
+// Throws DataFileError naming the places tried when none applies. A program that links
+// holdfast_core from an installed package and lives elsewhere passes the folder explicitly
+// (the overloads below; the CMake package sets holdfast_TABLES_DIR) or sets HOLDFAST_TABLES.
+// The only place the core reads the environment.
 std::string tables_directory();
 
-// Names of the shipped materials (tables/materials/*.toml), sorted.
+// Names of the shipped materials (<tables>/materials/*.toml), sorted; the first form reads
+// tables_directory(), the second the given tables folder.
 std::vector<std::string> shipped_material_names();
+std::vector<std::string> shipped_material_names(const std::string& tables_folder);
 
-// A shipped material by name; InputError listing the known names for an unknown one.
+// A shipped material by name; InputError listing the known names for an unknown one. The
+// first form reads tables_directory(), the second the given tables folder.
 Material shipped_material(const std::string& name);
+Material shipped_material(const std::string& name, const std::string& tables_folder);
 
 // A material file (TOML): name, density_g_cm3, and either n and k (a constant index) or
 // nk_file (a table, relative to the TOML file's folder). See tables/materials/*.toml.

@@ -65,6 +65,7 @@ Report show_report(const MaterialsOptions& o) {
     }
     r.results.push_back(text_entry("optical constants", "optics", m.optics->describe()));
     r.results.push_back(text_entry("provenance", "source", m.provenance));
+    r.results.push_back(text_entry("read from", "file", m.file));
     if (!m.limits.empty()) r.assumptions.push_back(m.limits);
     return r;
 }

@@ -67,8 +67,14 @@ std::string optional_text(const toml::table& t, const char* key) {
     return t[key].value<std::string>().value_or("");
 }
 
-fs::path materials_folder() {
-    return fs::path(tables_directory()) / "materials";
+fs::path materials_folder(const std::string& tables_folder) {
+    return fs::path(tables_folder) / "materials";
+}
+
+// A tables folder is one that holds materials/.
+bool is_tables_folder(const fs::path& folder) {
+    std::error_code ec;
+    return fs::is_directory(folder / "materials", ec);
 }
 
 } // namespace
@@ -116,15 +122,38 @@ with_held_end_values(std::shared_ptr<const OpticalConstants> optics) {
 }
 
 std::string tables_directory() {
-    // The only read of the environment in the core: lets an installed copy or a test point
-    // at another tables folder.
+    // The only read of the environment in the core: lets a test, or a copy of the tables
+    // elsewhere, take precedence over the folders found below.
     if (const char* env = std::getenv("HOLDFAST_TABLES"); env != nullptr && *env != '\0')
         return env;
-    return HOLDFAST_TABLES_DIR;
+    std::string tried;
+    // The installed layout, relative to the running program so that the prefix can be
+    // anywhere (HOLDFAST_TABLES_FROM_BINDIR is the install's bin -> tables path, set by CMake).
+    std::error_code ec;
+    const fs::path program = fs::read_symlink("/proc/self/exe", ec);
+    if (!ec) {
+        const fs::path installed =
+            (program.parent_path() / HOLDFAST_TABLES_FROM_BINDIR).lexically_normal();
+        if (is_tables_folder(installed)) return installed.string();
+        tried = installed.string();
+    } else {
+        tried = "the folder next to the program (/proc/self/exe: " + ec.message() + ")";
+    }
+    // The source tree the library was built from (a program run from the build tree).
+    const fs::path source_tree = HOLDFAST_TABLES_DIR;
+    if (is_tables_folder(source_tree)) return source_tree.string();
+    throw DataFileError("cannot find holdfast's tables folder (the one holding materials/): "
+                        "HOLDFAST_TABLES is not set, and neither " +
+                        tried + " nor " + source_tree.string() +
+                        " exists. Set HOLDFAST_TABLES to the installed share/holdfast/tables");
 }
 
 std::vector<std::string> shipped_material_names() {
-    const fs::path folder = materials_folder();
+    return shipped_material_names(tables_directory());
+}
+
+std::vector<std::string> shipped_material_names(const std::string& tables_folder) {
+    const fs::path folder = materials_folder(tables_folder);
     std::error_code ec;
     std::vector<std::string> names;
     for (fs::directory_iterator it(folder, ec), end; !ec && it != end; it.increment(ec))
@@ -138,20 +167,24 @@ std::vector<std::string> shipped_material_names() {
 }
 
 Material shipped_material(const std::string& name) {
-    const auto names = shipped_material_names();
+    return shipped_material(name, tables_directory());
+}
+
+Material shipped_material(const std::string& name, const std::string& tables_folder) {
+    const auto names = shipped_material_names(tables_folder);
+    const fs::path folder = materials_folder(tables_folder);
     if (std::find(names.begin(), names.end(), name) == names.end()) {
         std::string known;
         for (const auto& n : names)
             known += (known.empty() ? "" : ", ") + n;
-        throw InputError(
-            "unknown material '" + name + "'. Known materials: " +
-            (known.empty() ? "(none found in " + materials_folder().string() + ")" : known) +
-            "; or give the optical constants and density yourself");
+        throw InputError("unknown material '" + name + "'. Known materials: " +
+                         (known.empty() ? "(none found in " + folder.string() + ")" : known) +
+                         "; or give the optical constants and density yourself");
     }
-    Material m = read_material_file((materials_folder() / (name + ".toml")).string());
+    Material m = read_material_file((folder / (name + ".toml")).string());
     if (m.name != name)
-        throw DataFileError((materials_folder() / (name + ".toml")).string() + ": its name is '" +
-                            m.name + "', not the file name '" + name + "'");
+        throw DataFileError((folder / (name + ".toml")).string() + ": its name is '" + m.name +
+                            "', not the file name '" + name + "'");
     return m;
 }
 
@@ -199,6 +232,7 @@ Material read_material_file(const std::string& path) {
     if (!index_source.empty())
         m.provenance += (m.provenance.empty() ? "" : "\n") + ("index: " + index_source);
     m.limits = optional_text(t, "limits");
+    m.file = path;
     return m;
 }
 

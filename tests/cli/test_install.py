@@ -55,9 +55,11 @@ source = os.path.abspath(args.source)
 cmake = cache_value(build, "CMAKE_COMMAND") or "cmake"
 build_type = cache_value(build, "CMAKE_BUILD_TYPE") or "Release"
 compiler = cache_value(build, "CMAKE_CXX_COMPILER")
+generator = cache_value(build, "CMAKE_GENERATOR")
 
-# Runs everything without HOLDFAST_TABLES, so the installed folder must be found by itself.
-clean_env = {k: v for k, v in os.environ.items() if k != "HOLDFAST_TABLES"}
+# Runs everything without HOLDFAST_TABLES, so the installed folder must be found by itself
+# (and without DESTDIR, which would divert the install).
+clean_env = {k: v for k, v in os.environ.items() if k not in ("HOLDFAST_TABLES", "DESTDIR")}
 tmp = tempfile.mkdtemp(prefix="holdfast_test_install_")
 
 
@@ -118,6 +120,8 @@ configure = [cmake, "-S", os.path.join(source, "tests", "install", "consumer"), 
              f"-DCMAKE_PREFIX_PATH={prefix}", f"-DCMAKE_BUILD_TYPE={build_type}"]
 if compiler:
     configure.append(f"-DCMAKE_CXX_COMPILER={compiler}")
+if generator:
+    configure += ["-G", generator]
 if run(configure, what="configure the consumer").returncode == 0:
     checks.check(cache_value(consumer_build, "holdfast_DIR") == package_dir,
                  f"consumer found holdfast at {cache_value(consumer_build, 'holdfast_DIR')}, "

@@ -91,9 +91,11 @@ os.rename(first, prefix)
 installed = os.path.join(prefix, "bin", "holdfast")
 tables = os.path.join(prefix, "share", "holdfast", "tables")
 checks.check(os.access(installed, os.X_OK), f"{installed} is not an executable")
-headers = sorted(os.path.basename(p) for p in glob.glob(os.path.join(source, "include", "holdfast", "*.hpp")))
+headers = sorted(os.path.basename(p)
+                 for p in glob.glob(os.path.join(source, "include", "holdfast", "*.hpp")))
 for h in headers + ["version.hpp"]:
-    checks.check(os.path.isfile(os.path.join(prefix, "include", "holdfast", h)), f"header {h} not installed")
+    checks.check(os.path.isfile(os.path.join(prefix, "include", "holdfast", h)),
+                 f"header {h} not installed")
 source_materials = sorted(os.listdir(os.path.join(source, "tables", "materials")))
 installed_materials = sorted(os.listdir(os.path.join(tables, "materials"))) if os.path.isdir(
     os.path.join(tables, "materials")) else []
@@ -116,7 +118,8 @@ for path in glob.glob(os.path.join(package_dir, "*.cmake")) + glob.glob(
 
 # ---- a project of its own using the package ---------------------------------------------------
 consumer_build = os.path.join(tmp, "consumer-build")
-configure = [cmake, "-S", os.path.join(source, "tests", "install", "consumer"), "-B", consumer_build,
+configure = [cmake, "-S", os.path.join(source, "tests", "install", "consumer"),
+             "-B", consumer_build,
              f"-DCMAKE_PREFIX_PATH={prefix}", f"-DCMAKE_BUILD_TYPE={build_type}"]
 if compiler:
     configure.append(f"-DCMAKE_CXX_COMPILER={compiler}")
@@ -155,8 +158,9 @@ checks.check(names == [m[:-5] for m in source_materials if m.endswith(".toml")],
 checks.check(any(os.path.join(tables, "materials") in a for a in listing.get("assumptions", [])),
              f"materials list does not say it read {tables}: {listing.get('assumptions')}")
 show = installed_json(["materials", "show", "silicate"])
-checks.check(show.get("results", {}).get("file") == os.path.join(tables, "materials", "silicate.toml"),
-             f"materials show silicate read from {show.get('results', {}).get('file')}")
+shown_file = show.get("results", {}).get("file")
+checks.check(shown_file == os.path.join(tables, "materials", "silicate.toml"),
+             f"materials show silicate read from {shown_file}")
 
 # The same beta curve as the build tree's command: same code, same tables.
 beta_args = ["beta", "--radii", "0.05um..5um", "--points", "7", "--format", "csv"]

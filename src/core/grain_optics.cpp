@@ -234,6 +234,15 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
         };
         return out;
     }
+    if (lattice) {
+        // An index that varies with wavelength: the rule in ln(lambda).
+        auto curve = std::make_shared<detail::WavelengthRuleCurve>(q, band, sm.breakpoints_um);
+        out.mean = [curve, spectrum, pressure](double radius_um) {
+            const detail::FixedRuleMeans r = curve->means(*spectrum, radius_um);
+            return pressure ? r.q_pr : r.q_abs;
+        };
+        return out;
+    }
     auto cache = std::make_shared<EdgeFitCache>();
     out.mean = [po, band, sm, x_large, spectrum, pressure, cache](double radius_um) {
         const std::function<double(double)> qf = [&](double wavelength_um) {

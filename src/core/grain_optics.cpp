@@ -235,8 +235,13 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
         return out;
     }
     if (lattice) {
-        // An index that varies with wavelength: the rule in ln(lambda).
-        auto curve = std::make_shared<detail::WavelengthRuleCurve>(q, band, sm.breakpoints_um);
+        // An index that varies with wavelength: the rule in ln(lambda), whose large-sphere
+        // models are built for many indices, so with cheaper windows (grain_spectral_rule.cpp).
+        detail::FixedRuleDensity d = q->density();
+        d.window_periods_per_panel = 2.0 * d.periods_per_panel;
+        d.window_ln_floor = 0.01;
+        auto tab = std::make_shared<detail::SmoothedGrainQ>(po, x_large, d);
+        auto curve = std::make_shared<detail::WavelengthRuleCurve>(tab, band, sm.breakpoints_um);
         out.mean = [curve, spectrum, pressure](double radius_um) {
             const detail::FixedRuleMeans r = curve->means(*spectrum, radius_um);
             return pressure ? r.q_pr : r.q_abs;

@@ -170,6 +170,7 @@ FixedRuleDensity fixed_rule_density(double relative_tolerance) {
     d.coarse_ln_width = 0.0625 * std::min(scale, 1.0);
     d.ripple_ln_width = 0.00125 * scale;
     d.periods_per_panel = 0.5 * scale;
+    d.window_periods_per_panel = d.periods_per_panel;
     return d;
 }
 
@@ -235,7 +236,9 @@ struct SmoothedGrainQ::EdgeFit {
 
     double grid_x(int j) const { return x_from * std::pow(10.0, j / 3.0); }
     // Window length in ln x: 8 interference periods, at least 0.02.
-    double window_width(double x) const { return std::max(0.02, 8.0 * pi / (rate(m) * x)); }
+    double window_width(double x) const {
+        return std::max(density.window_ln_floor, 8.0 * pi / (rate(m) * x));
+    }
 
     const Value& grid(int j) {
         auto& slot = r[static_cast<std::size_t>(j)];
@@ -247,7 +250,7 @@ struct SmoothedGrainQ::EdgeFit {
         };
         // The series on panels as fine as the rule's resonance panels (it has spikes) ...
         const double step = std::min(ripple_width(m.imag(), density),
-                                     density.periods_per_panel * pi / (rate(m) * x1));
+                                     density.window_periods_per_panel * pi / (rate(m) * x1));
         double sw = 0.0, pr = 0.0, ab = 0.0;
         gauss_in_ln_x(x0, x1, step, [&](double x, double w) {
             const MieEfficiencies e = mie_sphere(m, x);

@@ -26,6 +26,11 @@ struct FixedRuleDensity {
     double ripple_ln_width = 0.00125;
     // Panels no longer than this many interference periods pi / nu in x.
     double periods_per_panel = 0.5;
+    // The large-sphere model's window averages (EdgeFit): panels of this many periods, windows
+    // of 8 periods but at least this wide in ln x. The wavelength rule (tabulated indices),
+    // which builds a model for many indices, uses 1 period and no floor (see there).
+    double window_periods_per_panel = 0.5;
+    double window_ln_floor = 0.02;
 };
 
 FixedRuleDensity fixed_rule_density(double relative_tolerance);

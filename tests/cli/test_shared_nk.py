@@ -7,12 +7,8 @@ cover the solar band run with --out-of-band limit-band.
 Every table's extreme indices (smallest and largest n, largest k and |m|) also go through
 `holdfast mie` from x = 1e-3 to 100: they must lie inside the Mie series' range
 (n in [0.01, 1000], k in [0, 1000]). The beta curves run where the binary has the beta
-subcommand (a build without it says so and checks the rest).
-
-Known limitation, checked as such: for the tables in UNSOLVED the spectral mean of the
-tabulated optical constants does not converge yet (nearly transparent bands with sharp
-features: GSL qag stops on roundoff). There the run must fail cleanly: exit 1 or 2, a message naming what failed, nothing
-on standard output. When one of them starts to work, move it out of the list."""
+subcommand (a build without it says so and checks the rest). The refractiveindex.info
+.yml copies of the tables (nk/yaml) go through the same checks."""
 import json
 import math
 import pathlib
@@ -26,16 +22,8 @@ if not nk_dir.is_dir():
     print(f"SKIP: {nk_dir} not found (reference data lives beside the repository)")
     sys.exit(harness.SKIP)
 checks = harness.Checks(args.binary)
-tables = sorted(nk_dir.glob("*.txt"))
+tables = sorted(nk_dir.glob("*.txt")) + sorted((nk_dir / "yaml").glob("*.yml"))
 checks.check(len(tables) >= 10, f"expected the shared nk tables, found {len(tables)}")
-
-UNSOLVED = {
-    "al2o3-corundum-e-querry-1985.txt": "spectral mean does not converge",
-    "al2o3-corundum-o-querry-1985.txt": "spectral mean does not converge",
-    "h2o-ice-warren-2008.txt": "spectral mean does not converge",
-    "mgo-periclase-synowicki-2004.txt": "spectral mean does not converge",
-    "sio2-fused-silica-franta-2016.txt": "spectral mean does not converge",
-}
 
 top_help = checks.run(["--help"]).stdout
 has_beta = any(line.split()[:1] == ["beta"] for line in top_help.splitlines())
@@ -87,15 +75,6 @@ for table in tables:
 
     beta_args = ["beta", "--nk", str(table), "--density", "3 g/cm3", "--out-of-band",
                  "limit-band", "--radii", "0.01um..100um", "--points", "15"] + extra
-    if name in UNSOLVED:
-        proc = checks.run(beta_args + ["--format", "json"])
-        checks.check(proc.returncode in (1, 2) and proc.stdout == "" and
-                     ("spectral mean" in proc.stderr or "--out-of-band" in proc.stderr or
-                      "cover" in proc.stderr),
-                     f"{name}: known limitation should fail cleanly, got exit "
-                     f"{proc.returncode}: {proc.stderr.strip()[:200]}")
-        print(f"NOTE: {name}: beta curve not available yet ({UNSOLVED[name]})")
-        continue
     curve = checks.json_of(beta_args)
     rows = curve.get("rows", [])
     checks.check(len(rows) == 15, f"{name}: 15 radii, got {len(rows)}")

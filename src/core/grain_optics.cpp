@@ -197,10 +197,10 @@ namespace {
 // Which quadrature a spectral mean uses. The fixed rule (grain_spectral_rule.cpp) is fast for
 // a grain whose index does not depend on wavelength (every shipped material, porous or coated),
 // including the nearly transparent ones on which the adaptive quadrature chases resonance
-// spikes for minutes. Tolerances tighter than it is built for (below 1e-7) and indices that
-// vary with wavelength (tabulated optical constants: see fixed_rule_suits) keep the adaptive
-// quadrature with the large-sphere shortcut of this file, which is also what the accuracy
-// tests use as their reference.
+// spikes for minutes. Indices that vary with wavelength (tabulated optical constants) use its
+// companion rule in ln(lambda) (WavelengthRuleCurve). Tolerances tighter than they are built
+// for (below 1e-7) keep the adaptive quadrature with the large-sphere shortcut of this file,
+// which is also what the accuracy tests use as their reference.
 bool use_fixed_rule(const GrainEfficiencySettings& settings) {
     return settings.spectral.relative_tolerance >= detail::fixed_rule_tightest_tolerance;
 }

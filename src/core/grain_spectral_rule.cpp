@@ -415,8 +415,7 @@ SmoothedGrainQ::Value SmoothedGrainQ::homogeneous(std::complex<double> m, double
 }
 
 SmoothedGrainQ::Value SmoothedGrainQ::coated(std::complex<double> m_core,
-                                             std::complex<double> m_mantle, double x,
-                                             bool model) {
+                                             std::complex<double> m_mantle, double x, bool model) {
     const double f = optics_.core_radius_fraction;
     if (large_x_ > 0.0 && (model || x > large_x_)) {
         // A thick absorbing mantle hides the core: the homogeneous mantle sphere.
@@ -655,7 +654,7 @@ FixedRuleMeans FixedRuleCurve::means(const Spectrum& spectrum, const WavelengthB
 //
 // Tabulated optical constants change Q at every wavelength, so nothing computed for one radius
 // serves another except the large-sphere models. The rule therefore works in u = ln(lambda):
-//   <Q>(s) = int Q(m(lambda), x) F(lambda) lambda du / int F(lambda) lambda du,  x = 2 pi s / lambda.
+//   <Q>(s) = int Q(m(lambda), x) F lambda du / int F lambda du,  x = 2 pi s / lambda.
 // The band is cut into segments at the table's rows (between rows n and k are interpolated
 // smoothly in ln lambda, so each segment is smooth in m) and at the coarse panel edges j h.
 // A segment's nu and smallest k are those of its ends (n linear, k log-linear between rows:
@@ -863,8 +862,7 @@ FixedRuleMeans WavelengthRuleCurve::means(const Spectrum& spectrum, double radiu
                     const double f = spectrum.f_lambda_shape(wavelength_um) * wavelength_um;
                     if (f == 0.0) continue; // no flux, no weight
                     const double x = std::exp(c - u);
-                    const SmoothedGrainQ::Value q =
-                        large ? model(u, x) : q_->at(wavelength_um, x);
+                    const SmoothedGrainQ::Value q = large ? model(u, x) : q_->at(wavelength_um, x);
                     if (!large) ++evaluations_;
                     const double w = 0.5 * (pb - pa) * rule.w[i] * f;
                     den += w;

@@ -109,8 +109,8 @@ FixedRuleLattice fixed_rule_lattice(const SmoothedGrainQ& q, const WavelengthBan
 // Whether the fixed rule is the quick choice: with a constant index every Q is computed once
 // per curve. An index that varies with wavelength would need Q afresh at every radius, on
 // panels that resolve the interference structure, and the large-sphere model fitted afresh
-// at every wavelength above the large-sphere limit: the adaptive quadrature is cheaper there
-// (and as slow as before for nearly transparent tables).
+// at every wavelength above the large-sphere limit: WavelengthRuleCurve below is built for
+// that case.
 bool fixed_rule_suits(const FixedRuleLattice& lattice);
 
 struct FixedRuleMeans {

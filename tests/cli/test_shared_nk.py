@@ -8,7 +8,8 @@ Every table's extreme indices (smallest and largest n, largest k and |m|) also g
 `holdfast mie` from x = 1e-3 to 100: they must lie inside the Mie series' range
 (n in [0.01, 1000], k in [0, 1000]). The beta curves run where the binary has the beta
 subcommand (a build without it says so and checks the rest). The refractiveindex.info
-.yml copies of the tables (nk/yaml) go through the same checks."""
+.yml copies of the tables (nk/yaml) go through the same checks, except two whose rows are out
+of wavelength order: those must be refused naming the line."""
 import json
 import math
 import pathlib
@@ -68,6 +69,15 @@ for table in tables:
     extra = ["--clip-negative-k"] if needs_clip else []
     if needs_clip:
         checks.check("line" in plain.stderr, f"{name}: the k < 0 refusal names the line")
+    if table.suffix == ".yml":
+        probe = checks.run(["materials", "check", str(table)] + extra)
+        if probe.returncode == 2 and "sorted" in probe.stderr:
+            # Two of the database's YAML entries (Querry 1985 corundum-o and magnetite) hold
+            # rows out of wavelength order, which the reader refuses; the .txt copies are sorted.
+            checks.check("line" in probe.stderr and probe.stdout == "",
+                         f"{name}: the unsorted-rows refusal names the line")
+            print(f"NOTE: {name}: refused, rows out of wavelength order")
+            continue
     summary = checks.json_of(["materials", "check", str(table)] + extra)
     checks.check(summary.get("results", {}).get("rows", 0) >= 2, f"{name}: check reports rows")
     if not has_beta:

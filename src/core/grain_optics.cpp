@@ -197,10 +197,10 @@ namespace {
 // Which quadrature a spectral mean uses. The fixed rule (grain_spectral_rule.cpp) is fast for
 // a grain whose index does not depend on wavelength (every shipped material, porous or coated),
 // including the nearly transparent ones on which the adaptive quadrature chases resonance
-// spikes for minutes. Tolerances tighter than it is built for (below 1e-7) and indices that
-// vary with wavelength (tabulated optical constants: see fixed_rule_suits) keep the adaptive
-// quadrature with the large-sphere shortcut of this file, which is also what the accuracy
-// tests use as their reference.
+// spikes for minutes. Indices that vary with wavelength (tabulated optical constants) use its
+// companion rule in ln(lambda) (WavelengthRuleCurve). Tolerances tighter than they are built
+// for (below 1e-7) keep the adaptive quadrature with the large-sphere shortcut of this file,
+// which is also what the accuracy tests use as their reference.
 bool use_fixed_rule(const GrainEfficiencySettings& settings) {
     return settings.spectral.relative_tolerance >= detail::fixed_rule_tightest_tolerance;
 }
@@ -230,6 +230,20 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
         const std::vector<double> kinks = sm.breakpoints_um;
         out.mean = [curve, spectrum, band, kinks, pressure](double radius_um) {
             const detail::FixedRuleMeans r = curve->means(*spectrum, band, radius_um, kinks);
+            return pressure ? r.q_pr : r.q_abs;
+        };
+        return out;
+    }
+    if (lattice) {
+        // An index that varies with wavelength: the rule in ln(lambda), whose large-sphere
+        // models are built for many indices, so with cheaper windows (grain_spectral_rule.cpp).
+        detail::FixedRuleDensity d = q->density();
+        d.window_periods_per_panel = 2.0 * d.periods_per_panel;
+        d.window_ln_floor = 0.01;
+        auto tab = std::make_shared<detail::SmoothedGrainQ>(po, x_large, d);
+        auto curve = std::make_shared<detail::WavelengthRuleCurve>(tab, band, sm.breakpoints_um);
+        out.mean = [curve, spectrum, pressure](double radius_um) {
+            const detail::FixedRuleMeans r = curve->means(*spectrum, radius_um);
             return pressure ? r.q_pr : r.q_abs;
         };
         return out;

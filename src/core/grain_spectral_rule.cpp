@@ -170,6 +170,7 @@ FixedRuleDensity fixed_rule_density(double relative_tolerance) {
     d.coarse_ln_width = 0.0625 * std::min(scale, 1.0);
     d.ripple_ln_width = 0.00125 * scale;
     d.periods_per_panel = 0.5 * scale;
+    d.window_periods_per_panel = d.periods_per_panel;
     return d;
 }
 
@@ -213,19 +214,31 @@ struct SmoothedGrainQ::EdgeFit {
             a = va;
             b = vb;
         } else if (last > 0) {
-            // ... or through the window averages at the last two grid points.
-            const Value r1 = grid(last - 1), r2 = grid(last);
-            const double p1 = std::cbrt(1.0 / grid_x(last - 1)), p2 = std::cbrt(1.0 / x1);
-            fit(p1, p2, r1.q_pr, r2.q_pr, va.q_pr, vb.q_pr);
-            fit(p1, p2, r1.q_abs, r2.q_abs, va.q_abs, vb.q_abs);
-            a = va;
-            b = vb;
+            // ... or through the window averages at the last two grid points, when first
+            // needed (they are the costliest windows).
+            fit_pending = true;
         }
+    }
+
+    bool fit_pending = false;
+    void fit_to_grid() {
+        fit_pending = false;
+        const Value r1 = grid(last - 1), r2 = grid(last);
+        const double p1 = std::cbrt(1.0 / grid_x(last - 1)), p2 = std::cbrt(1.0 / grid_x(last));
+        Value va, vb;
+        vb.q_pr = (r1.q_pr - r2.q_pr) / (p1 - p2);
+        va.q_pr = r1.q_pr - vb.q_pr * p1;
+        vb.q_abs = (r1.q_abs - r2.q_abs) / (p1 - p2);
+        va.q_abs = r1.q_abs - vb.q_abs * p1;
+        a = va;
+        b = vb;
     }
 
     double grid_x(int j) const { return x_from * std::pow(10.0, j / 3.0); }
     // Window length in ln x: 8 interference periods, at least 0.02.
-    double window_width(double x) const { return std::max(0.02, 8.0 * pi / (rate(m) * x)); }
+    double window_width(double x) const {
+        return std::max(density.window_ln_floor, 8.0 * pi / (rate(m) * x));
+    }
 
     const Value& grid(int j) {
         auto& slot = r[static_cast<std::size_t>(j)];
@@ -237,7 +250,7 @@ struct SmoothedGrainQ::EdgeFit {
         };
         // The series on panels as fine as the rule's resonance panels (it has spikes) ...
         const double step = std::min(ripple_width(m.imag(), density),
-                                     density.periods_per_panel * pi / (rate(m) * x1));
+                                     density.window_periods_per_panel * pi / (rate(m) * x1));
         double sw = 0.0, pr = 0.0, ab = 0.0;
         gauss_in_ln_x(x0, x1, step, [&](double x, double w) {
             const MieEfficiencies e = mie_sphere(m, x);
@@ -260,6 +273,7 @@ struct SmoothedGrainQ::EdgeFit {
     Value at(double x) {
         const MieEfficiencies g = go.at(x);
         Value rx;
+        if (x > grid_x(last) && fit_pending) fit_to_grid();
         if (x > grid_x(last) && a) {
             const double p = std::cbrt(1.0 / x);
             rx = {a->q_pr + b->q_pr * p, a->q_abs + b->q_abs * p};
@@ -364,8 +378,30 @@ SmoothedGrainQ::Value SmoothedGrainQ::at(double wavelength_um, double x) {
     return homogeneous(m_core, x);
 }
 
-SmoothedGrainQ::Value SmoothedGrainQ::homogeneous(std::complex<double> m, double x) {
-    if (large_x_ > 0.0 && x > large_x_) {
+SmoothedGrainQ::Value SmoothedGrainQ::model_at(double wavelength_um, double x) {
+    if (!(large_x_ > 0.0)) throw InternalError("SmoothedGrainQ::model_at: no large-sphere model");
+    const std::complex<double> m_core = optics_.core->index_at_um(wavelength_um);
+    if (coated_grain(optics_))
+        return coated(m_core, optics_.mantle->index_at_um(wavelength_um), x, true);
+    return homogeneous(m_core, x, true);
+}
+
+SmoothedGrainQ::Value SmoothedGrainQ::geometric_at(double wavelength_um, double x) const {
+    std::complex<double> m = optics_.core->index_at_um(wavelength_um);
+    if (coated_grain(optics_)) {
+        const std::complex<double> m_mantle = optics_.mantle->index_at_um(wavelength_um);
+        if (!(2.0 * m_mantle.imag() * x * (1.0 - optics_.core_radius_fraction) >=
+              thick_mantle_depth))
+            return {};
+        m = m_mantle;
+    }
+    GeometricOptics go{m, std::nullopt};
+    const MieEfficiencies g = go.at(x);
+    return {g.q_pr, g.q_abs};
+}
+
+SmoothedGrainQ::Value SmoothedGrainQ::homogeneous(std::complex<double> m, double x, bool model) {
+    if (large_x_ > 0.0 && (model || x > large_x_)) {
         const IndexKey key{m.real(), m.imag(), 0.0, 0.0};
         auto it = fits_.find(key);
         if (it == fits_.end()) {
@@ -379,12 +415,12 @@ SmoothedGrainQ::Value SmoothedGrainQ::homogeneous(std::complex<double> m, double
 }
 
 SmoothedGrainQ::Value SmoothedGrainQ::coated(std::complex<double> m_core,
-                                             std::complex<double> m_mantle, double x) {
+                                             std::complex<double> m_mantle, double x, bool model) {
     const double f = optics_.core_radius_fraction;
-    if (large_x_ > 0.0 && x > large_x_) {
+    if (large_x_ > 0.0 && (model || x > large_x_)) {
         // A thick absorbing mantle hides the core: the homogeneous mantle sphere.
         if (2.0 * m_mantle.imag() * x * (1.0 - f) >= thick_mantle_depth)
-            return homogeneous(m_mantle, x);
+            return homogeneous(m_mantle, x, model);
         const IndexKey key{m_core.real(), m_core.imag(), m_mantle.real(), m_mantle.imag()};
         auto it = grids_.find(key);
         if (it == grids_.end()) {
@@ -607,6 +643,238 @@ FixedRuleMeans FixedRuleCurve::means(const Spectrum& spectrum, const WavelengthB
     if (!(den > 0.0))
         throw NumericalError("spectral mean: '" + spectrum.describe() + "' has no flux between " +
                              num(band.low_um) + " and " + num(band.high_um) + " um");
+    const FixedRuleMeans out{num_pr / den, num_abs / den};
+    if (!std::isfinite(out.q_pr) || !std::isfinite(out.q_abs))
+        throw NumericalError("spectral mean of Q at radius " + num(radius_um) +
+                             " um is not a finite number");
+    return out;
+}
+
+// ---- indices that vary with wavelength ----------------------------------------------------------
+//
+// Tabulated optical constants change Q at every wavelength, so nothing computed for one radius
+// serves another except the large-sphere models. The rule therefore works in u = ln(lambda):
+//   <Q>(s) = int Q(m(lambda), x) F lambda du / int F lambda du,  x = 2 pi s / lambda.
+// The band is cut into segments at the table's rows (between rows n and k are interpolated
+// smoothly in ln lambda, so each segment is smooth in m) and at the coarse panel edges j h.
+// A segment's nu and smallest k are those of its ends (n linear, k log-linear between rows:
+// monotone). For one radius each segment is cut where x = 2 and x = large_x, and each piece
+// gets Gauss-Legendre panels as wide as the constant-index rule would give at its largest x:
+//   x <= 2            coarse (h), no resonances;
+//   2 < x <= large_x  min(12 k, half an interference period pi / (nu x)) in ln x, floored as
+//                     in fixed_rule_lattice, the period dropped where k x >= 3 (damped);
+//   x > large_x       coarse: the smooth large-sphere model.
+// A piece narrower than its panel width (dense tables: Franta's silica has ~430 rows per unit
+// of ln lambda) gets a rule with proportionally fewer points, at least 2, so the node density
+// stays ~8 per panel width and the cost does not grow with the table's rows.
+// Large spheres: building the model (EdgeFit, window averages of the series up to x = 2e4)
+// costs ~0.1-0.3 s per index for a nearly transparent one, far too much for every node. It
+// is built only at lattice wavelengths u_j = j H (H = 2 h, clamped to the band), tabulated on
+// the grid x_i = exp(i h), and evaluated as 4-point Lagrange interpolation in ln x (the
+// model is smooth in x) and linear interpolation in u between the two lattice wavelengths
+// (the model depends smoothly on m; a table's features are narrower than H only where k
+// changes fast, and there the model varies little since k x >> 1 already absorbs the
+// internal rays). The lattice values are shared by every radius, so a curve builds
+// each lattice index's model once.
+// Accuracy: against the same rule at tolerance 1e-7 (every panel and lattice step a quarter
+// as wide), <Q_pr> agrees within 1e-4 relative (tests/grain_optics_test.cpp, a synthetic
+// ice-like table with k from 1e-8 to 1e-4 and, with the shared data, Franta's fused silica).
+
+namespace {
+
+// Gauss-Legendre rules of 2 to 8 points on [-1, 1].
+struct GaussRules {
+    std::array<GaussRule, 9> by_points{};
+    std::array<int, 9> size{};
+};
+
+GaussRules make_gauss_rules() {
+    GaussRules rules;
+    for (std::size_t n = 2; n <= 8; ++n) {
+        gsl_integration_glfixed_table* table = gsl_integration_glfixed_table_alloc(n);
+        if (table == nullptr) throw NumericalError("wavelength rule: cannot allocate GSL table");
+        for (std::size_t i = 0; i < n; ++i) {
+            if (gsl_integration_glfixed_point(-1.0, 1.0, i, &rules.by_points[n].t[i],
+                                              &rules.by_points[n].w[i], table) != 0) {
+                gsl_integration_glfixed_table_free(table);
+                throw NumericalError("wavelength rule: GSL Gauss-Legendre node failed");
+            }
+        }
+        gsl_integration_glfixed_table_free(table);
+        rules.size[n] = static_cast<int>(n);
+    }
+    return rules;
+}
+
+const GaussRules& gauss_rules() {
+    static const GaussRules rules = make_gauss_rules(); // read-only once built
+    return rules;
+}
+
+} // namespace
+
+WavelengthRuleCurve::WavelengthRuleCurve(std::shared_ptr<SmoothedGrainQ> q, WavelengthBand band,
+                                         const std::vector<double>& extra_kinks_um)
+    : q_(std::move(q)), band_(band) {
+    if (!q_) throw InternalError("WavelengthRuleCurve: no grain");
+    if (!(band_.low_um > 0.0 && std::isfinite(band_.high_um) && band_.high_um > band_.low_um))
+        throw InputError("spectral mean: band " + num(band_.low_um) + " - " + num(band_.high_um) +
+                         " um is not a finite range 0 < low < high");
+    const double h = q_->density().coarse_ln_width;
+    geometric_step_ = h;
+    rest_step_ = 4.0 * h;
+    const double u_lo = std::log(band_.low_um), u_hi = std::log(band_.high_um);
+    std::vector<double> cuts{u_lo, u_hi};
+    auto add = [&](double wavelength_um) {
+        if (wavelength_um > band_.low_um && wavelength_um < band_.high_um)
+            cuts.push_back(std::log(wavelength_um));
+    };
+    const GrainOptics& o = q_->optics();
+    const bool coated = coated_grain(o);
+    for (double wl : o.core->breakpoints_um())
+        add(wl);
+    if (coated)
+        for (double wl : o.mantle->breakpoints_um())
+            add(wl);
+    for (double wl : extra_kinks_um)
+        add(wl);
+    for (long j = static_cast<long>(std::ceil(u_lo / h)); h * static_cast<double>(j) < u_hi; ++j)
+        if (h * static_cast<double>(j) > u_lo) cuts.push_back(h * static_cast<double>(j));
+    std::sort(cuts.begin(), cuts.end());
+    // Ends at the band's edges exactly; no segments narrower than 1e-12 in ln(lambda).
+    std::vector<double> kept{u_lo};
+    for (double c : cuts)
+        if (c - kept.back() > 1e-12 && u_hi - c > 1e-12) kept.push_back(c);
+    kept.push_back(u_hi);
+    std::complex<double> core_prev = o.core->index_at_um(band_.low_um);
+    std::complex<double> mantle_prev =
+        coated ? o.mantle->index_at_um(band_.low_um) : std::complex<double>();
+    for (std::size_t i = 0; i + 1 < kept.size(); ++i) {
+        // The ends' exact wavelengths (exp(log(w)) may fall a rounding error outside a table).
+        const double wl = i + 2 == kept.size() ? band_.high_um : std::exp(kept[i + 1]);
+        const std::complex<double> core = o.core->index_at_um(wl);
+        Segment seg{kept[i], kept[i + 1], std::max(rate(core_prev), rate(core)),
+                    std::min(core_prev.imag(), core.imag())};
+        if (coated) {
+            const std::complex<double> mantle = o.mantle->index_at_um(wl);
+            seg.nu = std::max({seg.nu, rate(mantle_prev), rate(mantle)});
+            seg.k_min = std::min({seg.k_min, mantle_prev.imag(), mantle.imag()});
+            mantle_prev = mantle;
+        }
+        core_prev = core;
+        segments_.push_back(seg);
+    }
+}
+
+const SmoothedGrainQ::Value& WavelengthRuleCurve::lattice_value(bool geometric, long j, long i) {
+    Column& column = (geometric ? geometric_ : rest_)[j];
+    if (auto it = column.find(i); it != column.end()) return it->second;
+    const double step = geometric ? geometric_step_ : rest_step_;
+    const double u_lo = std::log(band_.low_um), u_hi = std::log(band_.high_um);
+    const double u = std::clamp(step * static_cast<double>(j), u_lo, u_hi);
+    // The band's own ends where the lattice is clamped (a table may end there).
+    const double wavelength_um = u == u_lo ? band_.low_um : u == u_hi ? band_.high_um : std::exp(u);
+    const double x = std::exp(q_->density().coarse_ln_width * static_cast<double>(i));
+    ++evaluations_;
+    SmoothedGrainQ::Value v = q_->geometric_at(wavelength_um, x);
+    if (!geometric) {
+        const SmoothedGrainQ::Value m = q_->model_at(wavelength_um, x);
+        v = {m.q_pr - v.q_pr, m.q_abs - v.q_abs};
+    }
+    return column.emplace(i, v).first->second;
+}
+
+SmoothedGrainQ::Value WavelengthRuleCurve::model(double u, double x) {
+    const double u_lo = std::log(band_.low_um), u_hi = std::log(band_.high_um);
+    // 4-point Lagrange in ln x on the grid i h, never below the model's start ...
+    const double hx = q_->density().coarse_ln_width;
+    const double t = std::log(x) / hx;
+    const long i_start = std::lround(std::log(q_->large_x()) / hx);
+    const long i0 = std::max(static_cast<long>(std::floor(t)) - 1, i_start);
+    std::array<double, 4> l{};
+    for (long a = 0; a < 4; ++a) {
+        l[static_cast<std::size_t>(a)] = 1.0;
+        for (long b = 0; b < 4; ++b)
+            if (b != a)
+                l[static_cast<std::size_t>(a)] *=
+                    (t - static_cast<double>(i0 + b)) / static_cast<double>(a - b);
+    }
+    // ... and linear in ln(lambda) between two lattice wavelengths, for each part.
+    SmoothedGrainQ::Value v;
+    for (bool geometric : {true, false}) {
+        const double step = geometric ? geometric_step_ : rest_step_;
+        const long j = static_cast<long>(std::floor(u / step));
+        const double ua = std::clamp(step * static_cast<double>(j), u_lo, u_hi);
+        const double ub = std::clamp(step * static_cast<double>(j + 1), u_lo, u_hi);
+        const double tu = ub > ua ? std::clamp((u - ua) / (ub - ua), 0.0, 1.0) : 0.0;
+        for (long a = 0; a < 4; ++a) {
+            const SmoothedGrainQ::Value& va = lattice_value(geometric, j, i0 + a);
+            const SmoothedGrainQ::Value& vb = lattice_value(geometric, j + 1, i0 + a);
+            const double la = l[static_cast<std::size_t>(a)];
+            v.q_pr += la * ((1.0 - tu) * va.q_pr + tu * vb.q_pr);
+            v.q_abs += la * ((1.0 - tu) * va.q_abs + tu * vb.q_abs);
+        }
+    }
+    return v;
+}
+
+FixedRuleMeans WavelengthRuleCurve::means(const Spectrum& spectrum, double radius_um) {
+    if (!(radius_um > 0.0) || !std::isfinite(radius_um))
+        throw InputError("the grain radius must be positive, got " + num(radius_um) + " um");
+    const GaussRules& rules = gauss_rules();
+    const FixedRuleDensity& d = q_->density();
+    const double c = std::log(2.0 * pi * radius_um); // ln x = c - u
+    const double large_x = q_->large_x();
+    // u below u_large: x above the large-sphere limit; above u_ripple: x below 2.
+    const double u_large =
+        large_x > 0.0 ? c - std::log(large_x) : -std::numeric_limits<double>::infinity();
+    const double u_ripple = c - std::log(ripple_from_x);
+    double den = 0.0, num_pr = 0.0, num_abs = 0.0;
+    for (const Segment& seg : segments_) {
+        double cuts[4] = {seg.u0, seg.u0, seg.u0, seg.u1};
+        int n_cuts = 1;
+        for (double u : {u_large, u_ripple})
+            if (u > seg.u0 && u < seg.u1 && u > cuts[n_cuts - 1]) cuts[n_cuts++] = u;
+        cuts[n_cuts++] = seg.u1;
+        for (int p = 0; p + 1 < n_cuts; ++p) {
+            const double a = cuts[p], b = cuts[p + 1];
+            const double mid = 0.5 * (a + b);
+            const bool large = mid < u_large;
+            const double x_hi = std::exp(c - a), x_lo = std::exp(c - b);
+            double width = d.coarse_ln_width;
+            if (!large && x_hi > ripple_from_x) {
+                const double ripple = ripple_width(seg.k_min, d);
+                width = seg.k_min * x_lo >= damped_kx
+                            ? ripple
+                            : std::min(ripple, d.periods_per_panel * pi / (seg.nu * x_hi));
+            }
+            const int panels = std::max(1, static_cast<int>(std::ceil((b - a) / width - 1e-9)));
+            const int order =
+                panels > 1 ? 8
+                           : std::clamp(static_cast<int>(std::ceil(8.0 * (b - a) / width)), 2, 8);
+            const GaussRule& rule = rules.by_points[static_cast<std::size_t>(order)];
+            const double step = (b - a) / panels;
+            for (int k = 0; k < panels; ++k) {
+                const double pa = a + step * k, pb = k + 1 == panels ? b : pa + step;
+                for (std::size_t i = 0; i < static_cast<std::size_t>(order); ++i) {
+                    const double u = 0.5 * (pa + pb) + 0.5 * (pb - pa) * rule.t[i];
+                    const double wavelength_um = std::exp(u);
+                    const double f = spectrum.f_lambda_shape(wavelength_um) * wavelength_um;
+                    if (f == 0.0) continue; // no flux, no weight
+                    const double x = std::exp(c - u);
+                    const SmoothedGrainQ::Value q = large ? model(u, x) : q_->at(wavelength_um, x);
+                    if (!large) ++evaluations_;
+                    const double w = 0.5 * (pb - pa) * rule.w[i] * f;
+                    den += w;
+                    num_pr += w * q.q_pr;
+                    num_abs += w * q.q_abs;
+                }
+            }
+        }
+    }
+    if (!(den > 0.0))
+        throw NumericalError("spectral mean: the spectrum has no flux between " +
+                             num(band_.low_um) + " and " + num(band_.high_um) + " um");
     const FixedRuleMeans out{num_pr / den, num_abs / den};
     if (!std::isfinite(out.q_pr) || !std::isfinite(out.q_abs))
         throw NumericalError("spectral mean of Q at radius " + num(radius_um) +

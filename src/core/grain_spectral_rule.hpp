@@ -26,6 +26,11 @@ struct FixedRuleDensity {
     double ripple_ln_width = 0.00125;
     // Panels no longer than this many interference periods pi / nu in x.
     double periods_per_panel = 0.5;
+    // The large-sphere model's window averages (EdgeFit): panels of this many periods, windows
+    // of 8 periods but at least this wide in ln x. The wavelength rule (tabulated indices),
+    // which builds a model for many indices, uses 1 period and no floor (see there).
+    double window_periods_per_panel = 0.5;
+    double window_ln_floor = 0.02;
 };
 
 FixedRuleDensity fixed_rule_density(double relative_tolerance);
@@ -46,6 +51,12 @@ class SmoothedGrainQ {
         double q_abs = 0.0;
     };
     Value at(double wavelength_um, double x);
+    // The large-sphere model at x >= large_x() (at() gives it only above large_x(); this also
+    // at large_x() itself). Throws InternalError when there is no model (large_x() == 0).
+    Value model_at(double wavelength_um, double x);
+    // The geometric-optics part of that model: geometric optics of the homogeneous sphere (or
+    // of the mantle where it hides the core), 0 for a coated sphere whose core shows.
+    Value geometric_at(double wavelength_um, double x) const;
 
     const GrainOptics& optics() const { return optics_; }
     double large_x() const { return large_x_; }
@@ -63,8 +74,10 @@ class SmoothedGrainQ {
         std::size_t operator()(const IndexKey& k) const noexcept;
     };
 
-    Value homogeneous(std::complex<double> m, double x);
-    Value coated(std::complex<double> m_core, std::complex<double> m_mantle, double x);
+    // `model`: the large-sphere model even at x <= large_x_.
+    Value homogeneous(std::complex<double> m, double x, bool model = false);
+    Value coated(std::complex<double> m_core, std::complex<double> m_mantle, double x,
+                 bool model = false);
 
     GrainOptics optics_;
     double large_x_;
@@ -96,8 +109,8 @@ FixedRuleLattice fixed_rule_lattice(const SmoothedGrainQ& q, const WavelengthBan
 // Whether the fixed rule is the quick choice: with a constant index every Q is computed once
 // per curve. An index that varies with wavelength would need Q afresh at every radius, on
 // panels that resolve the interference structure, and the large-sphere model fitted afresh
-// at every wavelength above the large-sphere limit: the adaptive quadrature is cheaper there
-// (and as slow as before for nearly transparent tables).
+// at every wavelength above the large-sphere limit: WavelengthRuleCurve below is built for
+// that case.
 bool fixed_rule_suits(const FixedRuleLattice& lattice);
 
 struct FixedRuleMeans {
@@ -135,6 +148,47 @@ class FixedRuleCurve {
     FixedRuleLattice lattice_;
     long j_ripple_, j_top_; // coarse panels [j_ripple_, j_top_) have resonances
     std::unordered_map<long, Coarse> cache_;
+};
+
+// <Q_pr>(s) and <Q_abs>(s) for a grain whose index varies with wavelength (tabulated optical
+// constants, mixtures of them): composite Gauss-Legendre in ln(lambda) on panels cut at the
+// table's rows and sized for the interference structure and resonances at each radius, with
+// the large-sphere models interpolated between indices on a lattice fixed in wavelength. See
+// grain_wavelength_rule.cpp for the method and its measured accuracy.
+class WavelengthRuleCurve {
+  public:
+    // `q` carries the optics (defined over `band`) and the density. Throws InputError for a
+    // band that is not a range 0 < low < high.
+    WavelengthRuleCurve(std::shared_ptr<SmoothedGrainQ> q, WavelengthBand band,
+                        const std::vector<double>& extra_kinks_um = {});
+
+    // Throws InputError for a radius that is not positive and finite, NumericalError if the
+    // spectrum has no flux in the band or a mean is not finite.
+    FixedRuleMeans means(const Spectrum& spectrum, double radius_um);
+
+    // Q evaluations of the series and of the lattice models so far (for tests and benchmarks).
+    std::size_t evaluations() const { return evaluations_; }
+
+  private:
+    struct Segment {
+        double u0 = 0.0, u1 = 0.0; // ln(lambda / um)
+        double nu = 0.1;           // max(|n - 1|, 0.1) over the segment
+        double k_min = 0.0;        // smallest k over the segment
+    };
+    SmoothedGrainQ::Value model(double u, double x);
+    // The model's geometric-optics part (geometric) or the rest at lattice wavelength j and
+    // size parameter exp(i h).
+    const SmoothedGrainQ::Value& lattice_value(bool geometric, long j, long i);
+
+    std::shared_ptr<SmoothedGrainQ> q_;
+    WavelengthBand band_;
+    std::vector<Segment> segments_;
+    // Lattice steps in ln(lambda) for the geometric-optics part of the large-sphere models and
+    // for the rest.
+    double geometric_step_ = 0.0625, rest_step_ = 0.25;
+    using Column = std::unordered_map<long, SmoothedGrainQ::Value>;
+    std::unordered_map<long, Column> geometric_, rest_;
+    std::size_t evaluations_ = 0;
 };
 
 } // namespace holdfast::detail

@@ -4,6 +4,9 @@
 // (ice) and a coated grain (silicate core in an ice mantle).
 #include <benchmark/benchmark.h>
 
+#include <cmath>
+#include <vector>
+
 #include "holdfast/grain.hpp"
 #include "holdfast/material.hpp"
 #include "holdfast/parse.hpp"
@@ -42,8 +45,34 @@ void BM_beta_curve_silicate_in_ice_tol1e5(benchmark::State& state) {
     run(state, "silicate", 1e-5, "ice", 0.8);
 }
 
+// Tabulated nearly transparent constants (91 rows over 0.1-100 um, n 1.31-1.33, k 1e-8 to
+// 1e-4 log-linear; the band limited to the table): the wavelength rule, Q afresh per radius.
+void BM_beta_curve_tabulated_transparent_tol1e5(benchmark::State& state) {
+    holdfast::NkTable table;
+    table.source = "synthetic";
+    const std::vector<double> wl = holdfast::log_spaced(0.1, 100.0, 91);
+    for (std::size_t i = 0; i < wl.size(); ++i) {
+        const double f = static_cast<double>(i) / static_cast<double>(wl.size() - 1);
+        table.rows.push_back({wl[i], 1.31 + 0.02 * f, 1e-8 * std::pow(1e4, f)});
+    }
+    const holdfast::Star sun = holdfast::sun();
+    holdfast::GrainOptics optics;
+    optics.core = holdfast::tabulated_index(table);
+    holdfast::GrainEfficiencySettings settings;
+    settings.out_of_band = holdfast::OutOfBand::limit_band;
+    const std::vector<double> radii = holdfast::log_spaced(0.01, 1000.0, 200);
+    for (auto _ : state) {
+        const auto q = holdfast::starlight_qpr_mean(optics, sun.spectrum, settings);
+        double sum = 0.0;
+        for (double s : radii)
+            sum += q.mean(s);
+        benchmark::DoNotOptimize(sum);
+    }
+}
+
 } // namespace
 
+BENCHMARK(BM_beta_curve_tabulated_transparent_tol1e5)->Unit(benchmark::kMillisecond)->Iterations(1);
 BENCHMARK(BM_beta_curve_silicate_tol1e5)->Unit(benchmark::kMillisecond);
 BENCHMARK(BM_beta_curve_silicate_tol1e6)->Unit(benchmark::kMillisecond);
 BENCHMARK(BM_beta_curve_carbon_tol1e5)->Unit(benchmark::kMillisecond);

@@ -6,6 +6,7 @@
 #include <chrono>
 #include <cmath>
 #include <csignal>
+#include <exception>
 #include <ctime>
 #include <filesystem>
 #include <numbers>
@@ -173,7 +174,8 @@ Report run_sweep_command(const SweepOptions& o, const SweepProcess& process) {
     // the end, always whole (temporary file and rename).
     nlohmann::json side;
     std::uint64_t first_row = 0;
-    if (process.is_writer()) {
+    std::exception_ptr refused; // on the writer, before the other processes learn first_row
+    if (process.is_writer()) try {
         if (o.resume) {
             std::string old_text;
             try {
@@ -217,8 +219,15 @@ Report run_sweep_command(const SweepOptions& o, const SweepProcess& process) {
         side["status"] = "running";
         side["rows_written"] = first_row;
         write_file_atomically(sidecar, side.dump(2) + "\n");
+    } catch (...) {
+        refused = std::current_exception();
     }
-    first_row = process.broadcast(first_row);
+    // The other processes (MPI ranks) wait for the writer's start row, or learn it refused.
+    constexpr std::uint64_t writer_refused = ~std::uint64_t(0);
+    first_row = process.broadcast(refused ? writer_refused : first_row);
+    if (refused) std::rethrow_exception(refused);
+    if (first_row == writer_refused)
+        throw InputError("the writing process (rank 0) refused the run: see its message");
 
     const bool show_progress =
         process.is_writer() &&
@@ -274,7 +283,7 @@ Report run_sweep_command(const SweepOptions& o, const SweepProcess& process) {
         if (show_progress) draw(true);
         signal_seen = stop_signal;
     }
-    const bool complete = written == shape.rows();
+    const bool complete = process.is_writer() ? written == shape.rows() : !outcome.stopped;
     if (process.is_writer()) {
         side["status"] = complete ? "complete" : "stopped";
         side["rows_written"] = written;
@@ -285,6 +294,11 @@ Report run_sweep_command(const SweepOptions& o, const SweepProcess& process) {
     if (!complete) {
         const char* name = signal_seen == SIGINT ? "SIGINT" : signal_seen == SIGTERM ? "SIGTERM"
                                                                                        : "a signal";
+        if (!process.is_writer())
+            throw StoppedBySignal(fmt::format("sweep stopped by {} on a computing process; the "
+                                              "writing process (rank 0) reports the rows",
+                                              name),
+                                  signal_seen ? signal_seen : SIGTERM);
         throw StoppedBySignal(
             fmt::format("sweep stopped by {} after {} of {} rows; '{}' holds complete rows "
                         "only. Continue with: holdfast sweep {} -o {} --resume",

@@ -87,39 +87,38 @@ TEST_CASE("sweep spec errors name the file, the line and the key", "[sweep]") {
         const char* where; // expected start of the message
         const char* what;  // and a word of the reason
     };
-    const auto c = GENERATE(values<Case>({
-        Case{"radii = \"0.1um..1um\"\ncolour = 1\n", "test.toml:2: colour:", "unknown key"},
-        Case{"radii = \"0.1kg..1kg\"\n", "test.toml:1: radii:", "mass"},
-        Case{"radii = 3\n", "test.toml:1: radii:", "integer"},
-        Case{"points = 1\nradii = \"0.1um..1um\"\n", "test.toml:1: points:", "out of range"},
-        Case{"radii = \"0.1um..1um\"\n[[star]]\nluminosity = \"2 Lsun\"\nmass = \"2 s\"\n"
-             "teff = \"6000 K\"\n[[material]]\nname = \"silicate\"\n",
-             "test.toml:4: star[1].mass:", "mass"},
-        Case{"radii = \"0.1um..1um\"\n[[star]]\npreset = \"sun\"\n[[material]]\n"
-             "name = \"silicate\"\nporosity = [0.2, 1.0]\n",
-             "test.toml:6: material[1].porosity[2]:", "out of range"},
-        Case{"radii = \"0.1um..1um\"\n[[star]]\npreset = \"vega\"\n[[material]]\n"
-             "name = \"silicate\"\n",
-             "test.toml:3: star[1].preset:", "unknown preset"},
-        Case{"radii = \"0.1um..1um\"\n[[star]]\npreset = \"sun\"\n[[material]]\n"
-             "index = \"1.5+0.1i\"\n",
-             "test.toml:4: material[1]:", "density"},
-        Case{"radii = \"0.1um..1um\"\n[[star]]\npreset = \"sun\"\n[[material]]\n"
-             "name = \"silicate\"\ndensty = \"3 g/cm3\"\n",
-             "test.toml:6: material[1].densty:", "unknown key"},
-        Case{"quantities = [\"beta\", \"speed\"]\nradii = \"0.1um..1um\"\n",
-             "test.toml:1: quantities[2]:", "unknown quantity"},
-        Case{"quantities = [\"temperature\"]\nradii = \"0.1um..1um\"\ndistances = \"1 g\"\n"
-             "[[star]]\npreset = \"sun\"\n[[material]]\nname = \"silicate\"\n",
-             "test.toml:3: distances:", "length"},
-        Case{"radii = \"0.1um..1um\"\n[[star]]\npreset = \"sun\"\n[[material]]\n"
-             "name = \"silicate\"\n[[orbit]]\neccentricity = 0.3\n",
-             "test.toml:6: orbit:",
-             "no quantity depends"},
-        Case{"quantities = [\"bound\"]\nradii = \"0.1um..1um\"\n[[star]]\npreset = \"sun\"\n"
-             "[[material]]\nname = \"silicate\"\n[[orbit]]\neccentricity = 1.5\n",
-             "test.toml:8: orbit[1].eccentricity:", "out of range"},
-        Case{"radii = \"0.1um..1um\n", "test.toml:1:", "not valid TOML"}}));
+    const auto c = GENERATE(values<Case>(
+        {Case{"radii = \"0.1um..1um\"\ncolour = 1\n", "test.toml:2: colour:", "unknown key"},
+         Case{"radii = \"0.1kg..1kg\"\n", "test.toml:1: radii:", "mass"},
+         Case{"radii = 3\n", "test.toml:1: radii:", "integer"},
+         Case{"points = 1\nradii = \"0.1um..1um\"\n", "test.toml:1: points:", "out of range"},
+         Case{"radii = \"0.1um..1um\"\n[[star]]\nluminosity = \"2 Lsun\"\nmass = \"2 s\"\n"
+              "teff = \"6000 K\"\n[[material]]\nname = \"silicate\"\n",
+              "test.toml:4: star[1].mass:", "mass"},
+         Case{"radii = \"0.1um..1um\"\n[[star]]\npreset = \"sun\"\n[[material]]\n"
+              "name = \"silicate\"\nporosity = [0.2, 1.0]\n",
+              "test.toml:6: material[1].porosity[2]:", "out of range"},
+         Case{"radii = \"0.1um..1um\"\n[[star]]\npreset = \"vega\"\n[[material]]\n"
+              "name = \"silicate\"\n",
+              "test.toml:3: star[1].preset:", "unknown preset"},
+         Case{"radii = \"0.1um..1um\"\n[[star]]\npreset = \"sun\"\n[[material]]\n"
+              "index = \"1.5+0.1i\"\n",
+              "test.toml:4: material[1]:", "density"},
+         Case{"radii = \"0.1um..1um\"\n[[star]]\npreset = \"sun\"\n[[material]]\n"
+              "name = \"silicate\"\ndensty = \"3 g/cm3\"\n",
+              "test.toml:6: material[1].densty:", "unknown key"},
+         Case{"quantities = [\"beta\", \"speed\"]\nradii = \"0.1um..1um\"\n",
+              "test.toml:1: quantities[2]:", "unknown quantity"},
+         Case{"quantities = [\"temperature\"]\nradii = \"0.1um..1um\"\ndistances = \"1 g\"\n"
+              "[[star]]\npreset = \"sun\"\n[[material]]\nname = \"silicate\"\n",
+              "test.toml:3: distances:", "length"},
+         Case{"radii = \"0.1um..1um\"\n[[star]]\npreset = \"sun\"\n[[material]]\n"
+              "name = \"silicate\"\n[[orbit]]\neccentricity = 0.3\n",
+              "test.toml:6: orbit:", "no quantity depends"},
+         Case{"quantities = [\"bound\"]\nradii = \"0.1um..1um\"\n[[star]]\npreset = \"sun\"\n"
+              "[[material]]\nname = \"silicate\"\n[[orbit]]\neccentricity = 1.5\n",
+              "test.toml:8: orbit[1].eccentricity:", "out of range"},
+         Case{"radii = \"0.1um..1um\n", "test.toml:1:", "not valid TOML"}}));
     CAPTURE(c.toml);
     try {
         (void)spec_of(c.toml);
@@ -172,8 +171,8 @@ TEST_CASE("sweep rows agree with the core functions they come from", "[sweep]") 
         const double s = std::stod(r[10]) * 1e-6;
         const double q = std::stod(r[11]);
         const double expected = 3.0 * L * q /
-                                (16.0 * std::numbers::pi * constants::gravitational_constant_SI * M *
-                                 constants::speed_of_light_m_s * rho * s);
+                                (16.0 * std::numbers::pi * constants::gravitational_constant_SI *
+                                 M * constants::speed_of_light_m_s * rho * s);
         const double b = std::stod(r[12]);
         REQUIRE(std::isfinite(b));
         CHECK(b == Approx(expected).epsilon(2e-9));
@@ -188,7 +187,8 @@ TEST_CASE("sweep rows agree with the core functions they come from", "[sweep]") 
     GrainEfficiencySettings settings;
     settings.spectral.relative_tolerance = 1e-5;
     const Material silicate = shipped_material("silicate");
-    const SpectralEfficiency e = starlight_qpr_mean({silicate.optics, nullptr, 1.0}, sun_star.spectrum, settings);
+    const SpectralEfficiency e =
+        starlight_qpr_mean({silicate.optics, nullptr, 1.0}, sun_star.spectrum, settings);
     for (std::size_t i = 0; i < 12; ++i)
         CHECK(rows[i][11] == sweep_number(e.mean(spec.radii_um[i])));
     // The blow-out radii bracket the radii that are not bound (circular parent, beta_crit 1/2).
@@ -224,9 +224,9 @@ density = "2 g/cm3"
         const double d_au = std::stod(r[7]);
         const double s_um = std::stod(r[8]);
         const double qabs = std::stod(r[9]);
-        const Temperature t = equilibrium_temperature(
-            sun().luminosity, sun().radius, metres(d_au * constants::au_m), qabs,
-            planck_qabs_mean(optics, s_um, spec.settings));
+        const Temperature t =
+            equilibrium_temperature(sun().luminosity, sun().radius, metres(d_au * constants::au_m),
+                                    qabs, planck_qabs_mean(optics, s_um, spec.settings));
         // Identity with the core's balance; 1e-8: qabs went through 10 printed digits.
         CHECK(std::stod(r[10]) == Approx(t.value()).epsilon(1e-8));
         // Wyatt & Whipple 1950: t = c r^2 / (4 G M beta), an identity here; 2e-9 as above.
@@ -255,8 +255,8 @@ TEST_CASE("sweep output does not depend on threads, start row or process split",
         starts_at.push_back(pos);
         pos = one.find('\n', pos) + 1;
     }
-    for (std::uint64_t first : {std::uint64_t(1), std::uint64_t(24), std::uint64_t(30),
-                                std::uint64_t(143)}) {
+    for (std::uint64_t first :
+         {std::uint64_t(1), std::uint64_t(24), std::uint64_t(30), std::uint64_t(143)}) {
         SweepRunOptions o;
         o.threads = 2;
         o.first_row = first;

@@ -7,9 +7,9 @@
 // A "block" is the rows of one (star, material) pair: orbits x distances x radii rows. Blocks
 // are the unit of work; the spectral means of one (material, spectrum) curve are computed once
 // per sweep and shared by every star with that spectrum, every orbit and every distance.
-#include <cstdio>
 #include <cstddef>
 #include <cstdint>
+#include <cstdio>
 #include <functional>
 #include <memory>
 #include <string>
@@ -40,22 +40,22 @@ bool sweep_quantity_needs_orbit(SweepQuantity q);
 bool sweep_quantity_needs_distance(SweepQuantity q);
 
 struct SweepStar {
-    std::string label;        // the CSV's `star` column
+    std::string label; // the CSV's `star` column
     Star star;
     std::string spectrum_key; // stars with the same key share spectral means
 };
 
 struct SweepMaterial {
-    std::string label;        // the CSV's `material` column
-    std::string description;  // one line for people (sidecar)
-    GrainOptics optics;       // after porosity
+    std::string label;                                  // the CSV's `material` column
+    std::string description;                            // one line for people (sidecar)
+    GrainOptics optics;                                 // after porosity
     MassDensity density = MassDensity::from_value(0.0); // of the porous grain
     double porosity = 0.0;
-    std::string limits;       // where the material model is not valid
+    std::string limits; // where the material model is not valid
 };
 
 struct SweepSpec {
-    std::string source_name;  // the file name, for messages
+    std::string source_name; // the file name, for messages
     std::vector<SweepStar> stars;
     std::vector<SweepMaterial> materials;
     std::vector<ReleasePoint> orbits; // one circular orbit released at pericentre by default
@@ -121,8 +121,8 @@ struct SweepChunk {
 
 struct SweepOutcome {
     std::uint64_t rows_delivered = 0;
-    bool stopped = false;                // stop_requested said so before the end
-    std::vector<std::string> notes;      // from the spectral means (out-of-band notes), unique
+    bool stopped = false;           // stop_requested said so before the end
+    std::vector<std::string> notes; // from the spectral means (out-of-band notes), unique
 };
 
 // Computes this process's blocks from first_row on, with `threads` worker threads, and calls

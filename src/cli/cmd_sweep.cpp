@@ -6,8 +6,8 @@
 #include <chrono>
 #include <cmath>
 #include <csignal>
-#include <exception>
 #include <ctime>
+#include <exception>
 #include <filesystem>
 #include <numbers>
 #include <optional>
@@ -107,9 +107,10 @@ nlohmann::json spec_summary(const SweepSpec& spec) {
                                   {"limits", m.limits}});
     j["orbits"] = nlohmann::json::array();
     for (const auto& o : spec.orbits)
-        j["orbits"].push_back({{"parent_eccentricity", o.eccentricity},
-                               {"release_true_anomaly_deg", o.true_anomaly_rad * 180.0 / std::numbers::pi},
-                               {"beta_crit", critical_beta(o)}});
+        j["orbits"].push_back(
+            {{"parent_eccentricity", o.eccentricity},
+             {"release_true_anomaly_deg", o.true_anomaly_rad * 180.0 / std::numbers::pi},
+             {"beta_crit", critical_beta(o)}});
     j["distances_au"] = nlohmann::json::array();
     for (double d : spec.distances_m)
         j["distances_au"].push_back(d / constants::au_m);
@@ -154,8 +155,7 @@ std::vector<std::string> sweep_assumptions(const SweepSpec& spec) {
 std::string sidecar_path(const std::string& csv) { return csv + ".json"; }
 
 Report run_sweep_command(const SweepOptions& o, const SweepProcess& process) {
-    if (o.output.empty())
-        throw InputError("--output: a sweep writes a CSV file: give -o OUT.csv");
+    if (o.output.empty()) throw InputError("--output: a sweep writes a CSV file: give -o OUT.csv");
     if (o.threads > 1024)
         throw InputError(fmt::format("--threads: cannot use '{}': out of range. Accepted: 1 to "
                                      "1024, or 0 for one per core",
@@ -176,52 +176,56 @@ Report run_sweep_command(const SweepOptions& o, const SweepProcess& process) {
     std::uint64_t first_row = 0;
     std::exception_ptr refused; // on the writer, before the other processes learn first_row
     if (process.is_writer()) try {
-        if (o.resume) {
-            std::string old_text;
-            try {
-                old_text = read_text_file(sidecar);
-                side = nlohmann::json::parse(old_text);
-            } catch (const std::exception& e) {
-                throw InputError("--resume: cannot use the sidecar '" + sidecar +
-                                 "': " + e.what() +
-                                 ". Accepted: the JSON file a previous run of this sweep wrote "
-                                 "next to its CSV");
+            if (o.resume) {
+                std::string old_text;
+                try {
+                    old_text = read_text_file(sidecar);
+                    side = nlohmann::json::parse(old_text);
+                } catch (const std::exception& e) {
+                    throw InputError("--resume: cannot use the sidecar '" + sidecar +
+                                     "': " + e.what() +
+                                     ". Accepted: the JSON file a previous run of this sweep wrote "
+                                     "next to its CSV");
+                }
+                if (!side.contains("spec_text") || side["spec_text"] != spec_text)
+                    throw InputError("--resume: the sweep file '" + o.file +
+                                     "' is not the one the stopped run used (its text differs from "
+                                     "the copy in '" +
+                                     sidecar +
+                                     "'): resuming would mix two "
+                                     "sweeps. Run it afresh without --resume");
+                if (!side.contains("holdfast_version") ||
+                    side["holdfast_version"] != holdfast::version_string ||
+                    side["git_hash"] != holdfast::git_hash)
+                    throw InputError("--resume: '" + o.output +
+                                     "' was written by another build of "
+                                     "holdfast (" +
+                                     side.value("holdfast_version", std::string("?")) + ", git " +
+                                     side.value("git_hash", std::string("?")) +
+                                     "): its rows might differ. Run it afresh without --resume");
+                first_row = prepare_sweep_resume(o.output, header);
+                side["resumed_utc"].push_back(utc_now());
+            } else {
+                side = {{"command", "sweep"},
+                        {"holdfast_version", holdfast::version_string},
+                        {"git_hash", holdfast::git_hash},
+                        {"started_utc", utc_now()},
+                        {"spec_file", o.file},
+                        {"spec_text", spec_text},
+                        {"csv", o.output},
+                        {"csv_header", header.substr(0, header.size() - 1)},
+                        {"row_order", "star, material, orbit, distance, grain radius (fastest)"},
+                        {"spec", spec_summary(spec)},
+                        {"constants", constants_json()},
+                        {"assumptions", sweep_assumptions(spec)},
+                        {"resumed_utc", nlohmann::json::array()}};
             }
-            if (!side.contains("spec_text") || side["spec_text"] != spec_text)
-                throw InputError("--resume: the sweep file '" + o.file +
-                                 "' is not the one the stopped run used (its text differs from "
-                                 "the copy in '" + sidecar + "'): resuming would mix two "
-                                 "sweeps. Run it afresh without --resume");
-            if (!side.contains("holdfast_version") ||
-                side["holdfast_version"] != holdfast::version_string ||
-                side["git_hash"] != holdfast::git_hash)
-                throw InputError("--resume: '" + o.output + "' was written by another build of "
-                                 "holdfast (" + side.value("holdfast_version", std::string("?")) +
-                                 ", git " + side.value("git_hash", std::string("?")) +
-                                 "): its rows might differ. Run it afresh without --resume");
-            first_row = prepare_sweep_resume(o.output, header);
-            side["resumed_utc"].push_back(utc_now());
-        } else {
-            side = {{"command", "sweep"},
-                    {"holdfast_version", holdfast::version_string},
-                    {"git_hash", holdfast::git_hash},
-                    {"started_utc", utc_now()},
-                    {"spec_file", o.file},
-                    {"spec_text", spec_text},
-                    {"csv", o.output},
-                    {"csv_header", header.substr(0, header.size() - 1)},
-                    {"row_order", "star, material, orbit, distance, grain radius (fastest)"},
-                    {"spec", spec_summary(spec)},
-                    {"constants", constants_json()},
-                    {"assumptions", sweep_assumptions(spec)},
-                    {"resumed_utc", nlohmann::json::array()}};
+            side["status"] = "running";
+            side["rows_written"] = first_row;
+            write_file_atomically(sidecar, side.dump(2) + "\n");
+        } catch (...) {
+            refused = std::current_exception();
         }
-        side["status"] = "running";
-        side["rows_written"] = first_row;
-        write_file_atomically(sidecar, side.dump(2) + "\n");
-    } catch (...) {
-        refused = std::current_exception();
-    }
     // The other processes (MPI ranks) wait for the writer's start row, or learn it refused.
     constexpr std::uint64_t writer_refused = ~std::uint64_t(0);
     first_row = process.broadcast(refused ? writer_refused : first_row);
@@ -292,8 +296,9 @@ Report run_sweep_command(const SweepOptions& o, const SweepProcess& process) {
         write_file_atomically(sidecar, side.dump(2) + "\n");
     }
     if (!complete) {
-        const char* name = signal_seen == SIGINT ? "SIGINT" : signal_seen == SIGTERM ? "SIGTERM"
-                                                                                       : "a signal";
+        const char* name = signal_seen == SIGINT    ? "SIGINT"
+                           : signal_seen == SIGTERM ? "SIGTERM"
+                                                    : "a signal";
         if (!process.is_writer())
             throw StoppedBySignal(fmt::format("sweep stopped by {} on a computing process; the "
                                               "writing process (rank 0) reports the rows",
@@ -317,15 +322,17 @@ Report run_sweep_command(const SweepOptions& o, const SweepProcess& process) {
     if (process.processes() > 1)
         r.parameters.push_back(
             number_entry("processes", {{"processes", double(process.processes()), ""}}));
-    r.results.push_back(number_entry("rows in the grid", {{"rows_total", double(shape.rows()), ""}}));
     r.results.push_back(
-        number_entry("rows written by this run", {{"rows_written", double(written - first_row), ""}}));
+        number_entry("rows in the grid", {{"rows_total", double(shape.rows()), ""}}));
+    r.results.push_back(number_entry("rows written by this run",
+                                     {{"rows_written", double(written - first_row), ""}}));
     if (o.resume)
         r.results.push_back(
             number_entry("rows kept from before", {{"rows_resumed_from", double(first_row), ""}}));
     r.results.push_back(number_entry("elapsed time", {{"elapsed_s", elapsed, "s"}}));
     r.results.push_back(number_entry(
-        "rate", {{"rows_per_s", elapsed > 0 ? double(written - first_row) / elapsed : 0.0, "rows/s"}}));
+        "rate",
+        {{"rows_per_s", elapsed > 0 ? double(written - first_row) / elapsed : 0.0, "rows/s"}}));
     r.assumptions = sweep_assumptions(spec);
     r.warnings = outcome.notes;
     return r;

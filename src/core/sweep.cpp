@@ -71,7 +71,8 @@ class Engine {
                     wants(spec, SweepQuantity::bound) ||
                     wants(spec, SweepQuantity::blowout_radii) ||
                     wants(spec, SweepQuantity::pr_drag_time);
-        need_qabs_ = wants(spec, SweepQuantity::qabs_mean) || wants(spec, SweepQuantity::temperature);
+        need_qabs_ =
+            wants(spec, SweepQuantity::qabs_mean) || wants(spec, SweepQuantity::temperature);
         // Stars with the same spectrum share one curve per material.
         std::map<std::string, std::size_t> spectra;
         for (const auto& s : spec.stars)
@@ -169,13 +170,24 @@ class Engine {
                     for (SweepQuantity q : spec_.quantities) {
                         t += ',';
                         switch (q) {
-                        case SweepQuantity::qpr_mean: t += sweep_number(c.qpr[i]); break;
-                        case SweepQuantity::qabs_mean: t += sweep_number(c.qabs[i]); break;
-                        case SweepQuantity::beta: t += sweep_number(beta[i]); break;
-                        case SweepQuantity::bound: t += beta[i] < bc ? "true" : "false"; break;
-                        case SweepQuantity::blowout_radii: t += blowout; break;
+                        case SweepQuantity::qpr_mean:
+                            t += sweep_number(c.qpr[i]);
+                            break;
+                        case SweepQuantity::qabs_mean:
+                            t += sweep_number(c.qabs[i]);
+                            break;
+                        case SweepQuantity::beta:
+                            t += sweep_number(beta[i]);
+                            break;
+                        case SweepQuantity::bound:
+                            t += beta[i] < bc ? "true" : "false";
+                            break;
+                        case SweepQuantity::blowout_radii:
+                            t += blowout;
+                            break;
                         case SweepQuantity::temperature:
-                            t += sweep_number(temperature(star, mat, c.qabs[i], (*planck)[i], dist_m));
+                            t += sweep_number(
+                                temperature(star, mat, c.qabs[i], (*planck)[i], dist_m));
                             break;
                         case SweepQuantity::pr_drag_time:
                             t += sweep_number(in_julian_years(
@@ -223,7 +235,8 @@ class Engine {
         if (c.done) return c;
         const std::size_t n = spec_.radii_um.size();
         if (need_qpr_) {
-            SpectralEfficiency e = starlight_qpr_mean(mat.optics, star.star.spectrum, spec_.settings);
+            SpectralEfficiency e =
+                starlight_qpr_mean(mat.optics, star.star.spectrum, spec_.settings);
             if (!e.note.empty()) c.notes.push_back(e.note);
             c.qpr_fn = std::move(e.mean);
             // The same check BetaModel::qpr_mean_at_um makes (finite, >= 0).
@@ -235,7 +248,8 @@ class Engine {
             }
         }
         if (need_qabs_) {
-            SpectralEfficiency e = starlight_qabs_mean(mat.optics, star.star.spectrum, spec_.settings);
+            SpectralEfficiency e =
+                starlight_qabs_mean(mat.optics, star.star.spectrum, spec_.settings);
             if (!e.note.empty() && c.notes.empty()) c.notes.push_back(e.note);
             c.qabs.resize(n);
             for (std::size_t i = 0; i < n; ++i) {
@@ -285,13 +299,27 @@ std::string sweep_csv_header(const SweepSpec& spec) {
     h += "grain_radius_um";
     for (SweepQuantity q : spec.quantities) {
         switch (q) {
-        case SweepQuantity::qpr_mean: h += ",qpr_mean"; break;
-        case SweepQuantity::qabs_mean: h += ",qabs_mean"; break;
-        case SweepQuantity::beta: h += ",beta"; break;
-        case SweepQuantity::bound: h += ",bound"; break;
-        case SweepQuantity::blowout_radii: h += ",blowout_radii_um"; break;
-        case SweepQuantity::temperature: h += ",temperature_K"; break;
-        case SweepQuantity::pr_drag_time: h += ",pr_drag_time_yr"; break;
+        case SweepQuantity::qpr_mean:
+            h += ",qpr_mean";
+            break;
+        case SweepQuantity::qabs_mean:
+            h += ",qabs_mean";
+            break;
+        case SweepQuantity::beta:
+            h += ",beta";
+            break;
+        case SweepQuantity::bound:
+            h += ",bound";
+            break;
+        case SweepQuantity::blowout_radii:
+            h += ",blowout_radii_um";
+            break;
+        case SweepQuantity::temperature:
+            h += ",temperature_K";
+            break;
+        case SweepQuantity::pr_drag_time:
+            h += ",pr_drag_time_yr";
+            break;
         }
     }
     return h + "\n";

@@ -26,14 +26,16 @@ std::uint64_t prepare_sweep_resume(const std::string& csv_path, const std::strin
     if (!header_complete) {
         // Stopped while writing the header: start again from an empty file.
         if (!std::string_view(header).starts_with(first))
-            throw InputError("--resume: '" + csv_path + "' does not start with this sweep's "
+            throw InputError("--resume: '" + csv_path +
+                             "' does not start with this sweep's "
                              "header: it belongs to another sweep");
         keep = 0;
     } else {
         if (first + "\n" != header)
-            throw InputError("--resume: '" + csv_path + "' has another header than this sweep "
-                             "file gives:\n  file:  " + first + "\n  sweep: " +
-                             header.substr(0, header.size() - 1));
+            throw InputError("--resume: '" + csv_path +
+                             "' has another header than this sweep "
+                             "file gives:\n  file:  " +
+                             first + "\n  sweep: " + header.substr(0, header.size() - 1));
         keep = header.size();
         std::string line;
         while (std::getline(in, line)) {
@@ -50,16 +52,16 @@ std::uint64_t prepare_sweep_resume(const std::string& csv_path, const std::strin
         return 0;
     }
     fs::resize_file(csv_path, keep, ec);
-    if (ec) throw InputError("--resume: cannot cut the partial last row of '" + csv_path + "': " +
-                             ec.message());
+    if (ec)
+        throw InputError("--resume: cannot cut the partial last row of '" + csv_path +
+                         "': " + ec.message());
     return rows;
 }
 
 SweepCsvWriter::SweepCsvWriter(const std::string& path, bool truncate, const std::string& header)
     : path_(path) {
     file_ = std::fopen(path.c_str(), truncate ? "wb" : "ab");
-    if (!file_)
-        throw InputError("--output: cannot write '" + path + "': " + std::strerror(errno));
+    if (!file_) throw InputError("--output: cannot write '" + path + "': " + std::strerror(errno));
     if (truncate) write(header);
 }
 

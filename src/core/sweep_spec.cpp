@@ -40,13 +40,20 @@ struct Where {
 
 std::string type_name(const toml::node& n) {
     switch (n.type()) {
-    case toml::node_type::string: return "text";
-    case toml::node_type::integer: return "an integer";
-    case toml::node_type::floating_point: return "a number";
-    case toml::node_type::boolean: return "true/false";
-    case toml::node_type::array: return "a list";
-    case toml::node_type::table: return "a table";
-    default: return "a date or time";
+    case toml::node_type::string:
+        return "text";
+    case toml::node_type::integer:
+        return "an integer";
+    case toml::node_type::floating_point:
+        return "a number";
+    case toml::node_type::boolean:
+        return "true/false";
+    case toml::node_type::array:
+        return "a list";
+    case toml::node_type::table:
+        return "a table";
+    default:
+        return "a date or time";
     }
 }
 
@@ -71,7 +78,8 @@ std::vector<std::pair<std::string, Where>> texts(const toml::node& n, const Wher
     if (const auto* s = n.as_string()) {
         out.emplace_back(s->get(), w);
     } else if (const auto* a = n.as_array(); a && allow_list) {
-        if (a->empty()) refuse(w, "the list is empty. Accepted: one or more values, e.g. " + example);
+        if (a->empty())
+            refuse(w, "the list is empty. Accepted: one or more values, e.g. " + example);
         for (std::size_t i = 0; i < a->size(); ++i) {
             const toml::node& e = *a->get(i);
             const Where we = w.child("[" + std::to_string(i + 1) + "]", e);
@@ -134,8 +142,10 @@ int integer(const toml::node& n, const Where& w, int low, int high) {
     const auto* i = n.as_integer();
     if (!i) refuse(w, "cannot use " + type_name(n) + ". Accepted: an integer");
     if (i->get() < low || i->get() > high)
-        refuse(w, "cannot use " + std::to_string(i->get()) + ": out of range. Accepted: an integer "
-                  "from " + std::to_string(low) + " to " + std::to_string(high));
+        refuse(w, "cannot use " + std::to_string(i->get()) +
+                      ": out of range. Accepted: an integer "
+                      "from " +
+                      std::to_string(low) + " to " + std::to_string(high));
     return static_cast<int>(i->get());
 }
 
@@ -153,8 +163,9 @@ std::string resolve_path(const std::string& base, const std::string& file) {
 void require_file(const Where& w, const std::string& path) {
     std::error_code ec;
     if (!fs::is_regular_file(path, ec))
-        refuse(w, "cannot use '" + path + "': no such file. Accepted: the path of a readable file "
-                  "(relative to the sweep file's folder)");
+        refuse(w, "cannot use '" + path +
+                      "': no such file. Accepted: the path of a readable file "
+                      "(relative to the sweep file's folder)");
 }
 
 // Log-spaced values from a range "a..b" with `points`, or a list (text "a,b" or a TOML list).
@@ -235,13 +246,17 @@ void read_stars(const toml::node& node, const Where& w0, const std::string& base
         for (;;) {
             StarInputs in;
             if (!axes[0].empty())
-                in.luminosity = parse_quantity<Power>(axes[0][idx[0]].first, axes[0][idx[0]].second.text());
+                in.luminosity =
+                    parse_quantity<Power>(axes[0][idx[0]].first, axes[0][idx[0]].second.text());
             if (!axes[1].empty())
-                in.mass = parse_quantity<Mass>(axes[1][idx[1]].first, axes[1][idx[1]].second.text());
+                in.mass =
+                    parse_quantity<Mass>(axes[1][idx[1]].first, axes[1][idx[1]].second.text());
             if (!axes[2].empty())
-                in.teff = parse_quantity<Temperature>(axes[2][idx[2]].first, axes[2][idx[2]].second.text());
+                in.teff = parse_quantity<Temperature>(axes[2][idx[2]].first,
+                                                      axes[2][idx[2]].second.text());
             if (!axes[3].empty())
-                in.radius = parse_quantity<Length>(axes[3][idx[3]].first, axes[3][idx[3]].second.text());
+                in.radius =
+                    parse_quantity<Length>(axes[3][idx[3]].first, axes[3][idx[3]].second.text());
             in.name = label.empty() ? "star " + std::to_string(i + 1) : label;
             Star star;
             try {
@@ -263,7 +278,8 @@ void read_stars(const toml::node& node, const Where& w0, const std::string& base
     }
 }
 
-// ---- materials ------------------------------------------------------------------------------------
+// ---- materials
+// ------------------------------------------------------------------------------------
 
 struct Source {
     std::shared_ptr<const OpticalConstants> optics;
@@ -311,8 +327,8 @@ Source read_source(const toml::table& t, const Where& w, const std::string& base
         std::string limits = "optical constants interpolated from " + path;
         for (const auto& note : table.notes)
             limits += "; " + note;
-        return {tabulated_index(std::move(table)), std::nullopt,
-                fs::path(path).filename().string(), limits};
+        return {tabulated_index(std::move(table)), std::nullopt, fs::path(path).filename().string(),
+                limits};
     } catch (const InputError& e) {
         throw DataFileError(wk.text() + ": " + e.what());
     }
@@ -336,13 +352,15 @@ void read_materials(const toml::node& node, const Where& w0, const std::string& 
     for (std::size_t i = 0; i < arr->size(); ++i) {
         const toml::table& t = *arr->get(i)->as_table();
         const Where w = w0.child("[" + std::to_string(i + 1) + "]", t);
-        check_keys(t, w, {"label", "name", "index", "nk", "mixture", "density", "porosity",
-                          "mixing_rule", "clip_negative_k"});
+        check_keys(t, w,
+                   {"label", "name", "index", "nk", "mixture", "density", "porosity", "mixing_rule",
+                    "clip_negative_k"});
         auto at = [&](const char* k) { return w.child(std::string(".") + k, *t.get(k)); };
         bool clip = false;
         if (const auto* n = t.get("clip_negative_k")) {
             if (!n->is_boolean())
-                refuse(at("clip_negative_k"), "cannot use " + type_name(*n) + ". Accepted: true, false");
+                refuse(at("clip_negative_k"),
+                       "cannot use " + type_name(*n) + ". Accepted: true, false");
             clip = n->as_boolean()->get();
         }
         const MixingRule rule = mixing_rule(t, w);
@@ -364,12 +382,14 @@ void read_materials(const toml::node& node, const Where& w0, const std::string& 
                 if (c.contains("mixture")) refuse(wc, "a mixture cannot contain a mixture");
                 if (!c.contains("fraction"))
                     refuse(wc, "each component needs its volume fraction, e.g. fraction = 0.3");
-                const double f = bounded(*c.get("fraction"), wc.child(".fraction", *c.get("fraction")),
-                                         0.0, false, 1.0, false, "a number in [0, 1]");
+                const double f =
+                    bounded(*c.get("fraction"), wc.child(".fraction", *c.get("fraction")), 0.0,
+                            false, 1.0, false, "a number in [0, 1]");
                 Source cs = read_source(c, wc, base, clip);
                 if (const auto* d = c.get("density")) {
                     const Where wd = wc.child(".density", *d);
-                    cs.density = parse_quantity<MassDensity>(one_text(*d, wd, "\"3 g/cm3\""), wd.text());
+                    cs.density =
+                        parse_quantity<MassDensity>(one_text(*d, wd, "\"3 g/cm3\""), wd.text());
                 }
                 if (cs.density)
                     mass += f * cs.density->value();
@@ -377,8 +397,7 @@ void read_materials(const toml::node& node, const Where& w0, const std::string& 
                     all_densities = false;
                 comps.push_back({cs.optics, f});
                 label += (label.empty() ? "" : "+") + cs.label;
-                if (!cs.limits.empty())
-                    src.limits += (src.limits.empty() ? "" : "; ") + cs.limits;
+                if (!cs.limits.empty()) src.limits += (src.limits.empty() ? "" : "; ") + cs.limits;
             }
             try {
                 src.optics = mixture(std::move(comps), rule);
@@ -398,7 +417,8 @@ void read_materials(const toml::node& node, const Where& w0, const std::string& 
             refuse(w, "no density: optical constants from index, nk (or a mixture with a "
                       "component of unknown density) carry none; add density = \"3.3 g/cm3\"");
         std::string label = src.label;
-        if (const auto* n = t.get("label")) label = one_text(*n, at("label"), "\"porous silicate\"");
+        if (const auto* n = t.get("label"))
+            label = one_text(*n, at("label"), "\"porous silicate\"");
         std::vector<double> porosities{0.0};
         if (const auto* n = t.get("porosity"))
             porosities = numbers(*n, at("porosity"), 0.0, false, 1.0, true,
@@ -409,18 +429,19 @@ void read_materials(const toml::node& node, const Where& w0, const std::string& 
             m.porosity = p;
             m.optics.core = p > 0.0 ? with_porosity(src.optics, p, rule) : src.optics;
             m.density = MassDensity::from_value(src.density->value() * (1.0 - p));
-            m.description = src.label + (p > 0.0 ? ", porosity " + sweep_number(p) +
-                                                       (rule == MixingRule::bruggeman
-                                                            ? " (bruggeman)"
-                                                            : " (maxwell-garnett)")
-                                                 : "");
+            m.description =
+                src.label + (p > 0.0 ? ", porosity " + sweep_number(p) +
+                                           (rule == MixingRule::bruggeman ? " (bruggeman)"
+                                                                          : " (maxwell-garnett)")
+                                     : "");
             m.limits = src.limits;
             out.push_back(std::move(m));
         }
     }
 }
 
-// ---- orbits ----------------------------------------------------------------------------------------
+// ---- orbits
+// ----------------------------------------------------------------------------------------
 
 double release_anomaly_rad(const toml::node& n, const Where& w) {
     const std::string accepted =
@@ -436,7 +457,8 @@ double release_anomaly_rad(const toml::node& n, const Where& w) {
         try {
             deg = parse_number(num, w.text());
         } catch (const InputError&) {
-            refuse(w, "cannot use '" + s->get() + "': not a place on the orbit. Accepted: " + accepted);
+            refuse(w, "cannot use '" + s->get() +
+                          "': not a place on the orbit. Accepted: " + accepted);
         }
     } else {
         deg = number(n, w);
@@ -475,8 +497,9 @@ std::vector<SweepQuantity> read_quantities(const toml::node& n, const Where& w) 
         accepted += (accepted.empty() ? "" : ", ") + sweep_quantity_name(q);
     std::vector<SweepQuantity> out;
     for (const auto& [text, wt] : texts(n, w, true, "[\"beta\", \"qpr_mean\"]")) {
-        const auto it = std::find_if(std::begin(all), std::end(all),
-                                     [&](SweepQuantity q) { return sweep_quantity_name(q) == text; });
+        const auto it = std::find_if(std::begin(all), std::end(all), [&](SweepQuantity q) {
+            return sweep_quantity_name(q) == text;
+        });
         if (it == std::end(all))
             refuse(wt, "cannot use '" + text + "': unknown quantity. Accepted: " + accepted);
         if (std::find(out.begin(), out.end(), *it) != out.end())
@@ -490,13 +513,20 @@ std::vector<SweepQuantity> read_quantities(const toml::node& n, const Where& w) 
 
 std::string sweep_quantity_name(SweepQuantity q) {
     switch (q) {
-    case SweepQuantity::qpr_mean: return "qpr_mean";
-    case SweepQuantity::qabs_mean: return "qabs_mean";
-    case SweepQuantity::beta: return "beta";
-    case SweepQuantity::bound: return "bound";
-    case SweepQuantity::blowout_radii: return "blowout_radii";
-    case SweepQuantity::temperature: return "temperature";
-    case SweepQuantity::pr_drag_time: return "pr_drag_time";
+    case SweepQuantity::qpr_mean:
+        return "qpr_mean";
+    case SweepQuantity::qabs_mean:
+        return "qabs_mean";
+    case SweepQuantity::beta:
+        return "beta";
+    case SweepQuantity::bound:
+        return "bound";
+    case SweepQuantity::blowout_radii:
+        return "blowout_radii";
+    case SweepQuantity::temperature:
+        return "temperature";
+    case SweepQuantity::pr_drag_time:
+        return "pr_drag_time";
     }
     throw InternalError("unknown sweep quantity");
 }
@@ -524,20 +554,19 @@ SweepSpec parse_sweep_spec(std::string_view toml_text, const std::string& source
                {"quantities", "radii", "points", "distances", "distance_points",
                 "spectral_tolerance", "out_of_band", "star", "material", "orbit"});
     auto at = [&](const char* k) { return top.child(k, *root.get(k)); };
-    auto missing = [&](const std::string& what) {
-        throw InputError(source_name + ": " + what);
-    };
+    auto missing = [&](const std::string& what) { throw InputError(source_name + ": " + what); };
 
     spec.quantities = {SweepQuantity::qpr_mean, SweepQuantity::beta};
-    if (const auto* n = root.get("quantities")) spec.quantities = read_quantities(*n, at("quantities"));
+    if (const auto* n = root.get("quantities"))
+        spec.quantities = read_quantities(*n, at("quantities"));
     for (auto q : spec.quantities) {
         spec.has_orbit_axis = spec.has_orbit_axis || sweep_quantity_needs_orbit(q);
         spec.has_distance_axis = spec.has_distance_axis || sweep_quantity_needs_distance(q);
     }
 
     if (const auto* n = root.get("spectral_tolerance"))
-        spec.settings.spectral.relative_tolerance =
-            bounded(*n, at("spectral_tolerance"), 1e-10, false, 1e-2, false, "a number in [1e-10, 1e-2]");
+        spec.settings.spectral.relative_tolerance = bounded(
+            *n, at("spectral_tolerance"), 1e-10, false, 1e-2, false, "a number in [1e-10, 1e-2]");
     else
         spec.settings.spectral.relative_tolerance = 1e-5; // as the grain subcommands
     if (const auto* n = root.get("out_of_band")) {
@@ -548,7 +577,8 @@ SweepSpec parse_sweep_spec(std::string_view toml_text, const std::string& source
     int points = 200;
     if (const auto* n = root.get("points")) points = integer(*n, at("points"), 2, 100000);
     const auto* radii = root.get("radii");
-    if (!radii) missing("the key 'radii' is missing: give the grain radii, e.g. radii = \"0.01um..1mm\"");
+    if (!radii)
+        missing("the key 'radii' is missing: give the grain radii, e.g. radii = \"0.01um..1mm\"");
     spec.radii_um = values_si(*radii, at("radii"), dims::length, points, "\"0.01um..1mm\"");
     for (double& r : spec.radii_um)
         r *= 1e6;
@@ -564,7 +594,8 @@ SweepSpec parse_sweep_spec(std::string_view toml_text, const std::string& source
         if (!spec.has_distance_axis)
             refuse(at("distances"), "no quantity depends on the distance: add temperature or "
                                     "pr_drag_time to quantities, or remove distances");
-        spec.distances_m = values_si(*n, at("distances"), dims::length, distance_points, "\"1au..100au\"");
+        spec.distances_m =
+            values_si(*n, at("distances"), dims::length, distance_points, "\"1au..100au\"");
     } else if (spec.has_distance_axis) {
         missing("temperature and pr_drag_time need distances, e.g. distances = \"1au..100au\"");
     }
@@ -573,7 +604,8 @@ SweepSpec parse_sweep_spec(std::string_view toml_text, const std::string& source
     if (!stars) missing("no [[star]] table: add one, e.g. [[star]] with preset = \"sun\"");
     read_stars(*stars, at("star"), base_folder, spec.stars);
     const auto* materials = root.get("material");
-    if (!materials) missing("no [[material]] table: add one, e.g. [[material]] with name = \"silicate\"");
+    if (!materials)
+        missing("no [[material]] table: add one, e.g. [[material]] with name = \"silicate\"");
     read_materials(*materials, at("material"), base_folder, spec.materials);
     if (const auto* n = root.get("orbit")) {
         if (!spec.has_orbit_axis)
@@ -589,10 +621,11 @@ SweepSpec parse_sweep_spec(std::string_view toml_text, const std::string& source
     for (double d : spec.distances_m)
         for (const auto& s : spec.stars)
             if (d <= s.star.radius.value())
-                refuse(at("distances"), "cannot use " + sweep_number(d / constants::au_m) +
-                                            " au: inside the star '" + s.label + "' (radius " +
-                                            sweep_number(in_astronomical_units(s.star.radius)) +
-                                            " au). Accepted: distances larger than every stellar radius");
+                refuse(at("distances"),
+                       "cannot use " + sweep_number(d / constants::au_m) +
+                           " au: inside the star '" + s.label + "' (radius " +
+                           sweep_number(in_astronomical_units(s.star.radius)) +
+                           " au). Accepted: distances larger than every stellar radius");
     if (!spec.has_distance_axis) spec.distances_m.clear();
     return spec;
 }

@@ -4,6 +4,7 @@
 // returns a Report for output.cpp. main.cpp only lists the subcommands.
 #include <functional>
 #include <memory>
+#include <stdexcept>
 #include <string>
 #include <vector>
 
@@ -43,5 +44,14 @@ Command setup_mie(CLI::App& app);
 Command setup_beta(CLI::App& app);
 Command setup_blowout(CLI::App& app);
 Command setup_temperature(CLI::App& app);
+Command setup_sweep(CLI::App& app);
+
+// Thrown by a command that stopped cleanly on SIGINT or SIGTERM (holdfast sweep): main prints
+// the message and exits with 128 + the signal number, the shell's convention.
+struct StoppedBySignal : std::runtime_error {
+    StoppedBySignal(const std::string& message, int signal_number)
+        : std::runtime_error(message), signal(signal_number) {}
+    int signal;
+};
 
 } // namespace holdfast::cli

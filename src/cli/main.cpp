@@ -38,6 +38,7 @@ int main(int argc, char** argv) {
     commands.push_back(cli::setup_beta(app));
     commands.push_back(cli::setup_blowout(app));
     commands.push_back(cli::setup_temperature(app));
+    commands.push_back(cli::setup_sweep(app));
 
 
     try {
@@ -72,6 +73,9 @@ int main(int argc, char** argv) {
         }
         std::cerr << "holdfast: error: no subcommand given\n";
         return 2;
+    } catch (const cli::StoppedBySignal& e) {
+        std::cerr << "holdfast: " << e.what() << "\n";
+        return 128 + e.signal;
     } catch (const holdfast::InputError& e) {
         std::cerr << "holdfast: error: " << e.what() << "\n";
         return 2;

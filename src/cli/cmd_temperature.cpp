@@ -214,8 +214,9 @@ Report run_temperature(const TemperatureOptions& o) {
     Report r;
     r.command = "temperature";
     r.parameters = rs.parameters;
-    for (auto& e : mat.parameters)
-        r.parameters.push_back(e);
+    if (!constant_qabs) // a constant Q_abs replaces the material
+        for (auto& e : mat.parameters)
+            r.parameters.push_back(e);
     if (constant_qabs)
         r.parameters.push_back(
             number_entry("constant Q_abs", {{"qabs_constant", *constant_qabs, ""}}));
@@ -293,11 +294,11 @@ Report run_temperature(const TemperatureOptions& o) {
         r.results.push_back(text_entry("sublimating radii", "sublimating_radii", verdict));
         if (iv.includes_smallest || iv.includes_largest)
             r.warnings.push_back(fmt::format(
-                "the sublimating radii reach the {} of --search-radii ({}): the range may extend "
+                "the sublimating radii reach {} of --search-radii ({}): the range may extend "
                 "beyond it",
                 iv.includes_smallest && iv.includes_largest ? "both ends"
-                : iv.includes_smallest                      ? "smallest radius"
-                                                            : "largest radius",
+                : iv.includes_smallest                      ? "the smallest radius"
+                                                            : "the largest radius",
                 search_text));
     }
 

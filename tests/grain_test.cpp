@@ -436,6 +436,15 @@ TEST_CASE("a temperature curve solves the energy balance at every distance",
             rel(t, equilibrium_temperature(sun_luminosity, sun_radius, distances[i], q_star, planck)
                        .value()) < 3e-9);
     }
+    // solve() reports the residual of the Planck mean it evaluated at each solution: the same
+    // as a fresh evaluation (identical calls, so to rounding of 1 + residual: 1e-14).
+    const std::vector<TemperatureSolution> solved = model.solve(distances);
+    for (std::size_t i = 0; i < distances.size(); ++i) {
+        CHECK(solved[i].temperature.value() == curve[i].value());
+        CHECK(std::abs(solved[i].balance_residual) < 1e-8);
+        CHECK(std::abs(solved[i].balance_residual -
+                       model.balance_residual(distances[i], solved[i].temperature)) < 1e-14);
+    }
     // Distances in any order give the same temperatures (warm starts also go inwards).
     std::vector<Length> reversed(distances.rbegin(), distances.rend());
     const std::vector<Temperature> back = model.temperatures(reversed);

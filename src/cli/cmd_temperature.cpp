@@ -187,7 +187,7 @@ Report run_temperature(const TemperatureOptions& o) {
         const double q_star = qabs_star_at(s_um);
         qabs_star_means.push_back(q_star);
         const GrainTemperatureModel model(star.luminosity, star.radius, q_star, planck_of(s_um));
-        const std::vector<Temperature> t = model.temperatures(distances);
+        const std::vector<TemperatureSolution> t = model.solve(distances);
         Cell r_sub = std::monostate{};
         if (t_sub) {
             if (const auto d = model.sublimation_distance(*t_sub)) {
@@ -199,14 +199,13 @@ Report run_temperature(const TemperatureOptions& o) {
         }
         PlotSeries series{radius_label(s_um), {}, {}};
         for (std::size_t i = 0; i < distances.size(); ++i) {
-            worst_residual =
-                std::max(worst_residual, std::abs(model.balance_residual(distances[i], t[i])));
-            std::vector<Cell> row{s_um, distances_m[i] / constants::au_m, t[i].value(),
+            worst_residual = std::max(worst_residual, std::abs(t[i].balance_residual));
+            std::vector<Cell> row{s_um, distances_m[i] / constants::au_m, t[i].temperature.value(),
                                   t_bb[i].value()};
             if (t_sub) row.push_back(r_sub);
             grid.rows.push_back(std::move(row));
             series.x.push_back(distances_m[i] / constants::au_m);
-            series.y.push_back(t[i].value());
+            series.y.push_back(t[i].temperature.value());
         }
         plot.series.push_back(std::move(series));
     }

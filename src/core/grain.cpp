@@ -14,6 +14,7 @@
 #include "holdfast/grain.hpp"
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <cstdio>
 #include <exception>
@@ -81,9 +82,11 @@ struct RootSolver {
 };
 
 // Root of cb in [lo, hi] (values of different sign at the ends) to an absolute tolerance in
-// the variable u (ln of the physical variable, so a relative tolerance in it).
+// the variable u (ln of the physical variable, so a relative tolerance in it), or, when
+// residual_tolerance > 0, as soon as |cb(root)| is below it (cb should then remember its last
+// values: GSL has already evaluated the root estimate).
 double brent_root(LogCallback& cb, double lo, double hi, double tolerance, int max_iterations,
-                  const std::string& what) {
+                  const std::string& what, double residual_tolerance = 0.0) {
     RootSolver solver;
     gsl_function fn{&LogCallback::call, &cb};
     int status = gsl_root_fsolver_set(solver.s, &fn, lo, hi);
@@ -98,8 +101,13 @@ double brent_root(LogCallback& cb, double lo, double hi, double tolerance, int m
             throw NumericalError(what + ": GSL Brent root solver failed: " + gsl_strerror(status));
         const double a = gsl_root_fsolver_x_lower(solver.s);
         const double b = gsl_root_fsolver_x_upper(solver.s);
-        if (gsl_root_test_interval(a, b, tolerance, 0.0) == GSL_SUCCESS)
-            return gsl_root_fsolver_root(solver.s);
+        const double root = gsl_root_fsolver_root(solver.s);
+        if (gsl_root_test_interval(a, b, tolerance, 0.0) == GSL_SUCCESS) return root;
+        if (residual_tolerance > 0.0) {
+            const double r = LogCallback::call(root, &cb);
+            cb.rethrow_if_failed();
+            if (gsl_root_test_residual(r, residual_tolerance) == GSL_SUCCESS) return root;
+        }
     }
     throw NumericalError(what + ": GSL Brent root solver did not converge in " +
                          std::to_string(max_iterations) + " iterations");
@@ -337,22 +345,41 @@ void check_temperature_settings(const TemperatureSettings& s) {
     if (!(s.lowest_K > 0.0) || !(s.highest_K > s.lowest_K) || !std::isfinite(s.highest_K))
         throw InputError("the temperature search range must satisfy 0 < lowest < highest, got " +
                          num(s.lowest_K) + " to " + num(s.highest_K) + " K");
-    if (!(s.relative_tolerance > 0.0) || s.max_iterations < 1)
+    if (!(s.relative_tolerance > 0.0) || !(s.residual_tolerance >= 0.0) || s.max_iterations < 1)
         throw InputError("the temperature tolerance and iteration limit must be positive");
 }
 
 // T^4 <Q_abs>_T = A solved for T (A = target_K4) by GSL's Brent method in u = ln T, so the
 // tolerance on u is a relative one on T. The bracket grows from `guess_K` towards the root by
 // steps of `first_step` in u, doubling each time; `distance_au` names the search in messages.
-double solve_balance_K(double target_K4, const PlanckMean& planck, const TemperatureSettings& st,
-                       double guess_K, double first_step, double distance_au) {
+struct BalanceSolution {
+    double temperature_K = 0.0;
+    double log_residual = 0.0; // ln(emitted / absorbed) at temperature_K
+};
+
+BalanceSolution solve_balance(double target_K4, const PlanckMean& planck,
+                              const TemperatureSettings& st, double guess_K, double first_step,
+                              double distance_au) {
     const double log_target = std::log(target_K4);
+    // The last few evaluations, so the points the bracket search already has, and the root
+    // estimate GSL has just computed, cost no second Planck mean.
+    struct Memo {
+        double t_K = -1.0;
+        double value = 0.0;
+    };
+    std::array<Memo, 4> memo{};
+    std::size_t slot = 0;
     const std::function<double(double)> balance = [&](double t_K) {
+        for (const Memo& m : memo)
+            if (m.t_K == t_K) return m.value;
         const double q = planck(t_K);
         if (!(q > 0.0) || !std::isfinite(q))
             throw NumericalError("the grain's Planck-mean absorption efficiency at " + num(t_K) +
                                  " K is not a positive number (" + num(q) + ")");
-        return 4.0 * std::log(t_K) + std::log(q);
+        const double value = 4.0 * std::log(t_K) + std::log(q);
+        memo[slot] = {t_K, value};
+        slot = (slot + 1) % memo.size();
+        return value;
     };
     LogCallback cb;
     cb.f = &balance;
@@ -363,7 +390,7 @@ double solve_balance_K(double target_K4, const PlanckMean& planck, const Tempera
     double u0 = std::clamp(std::log(guess_K), lo_limit, hi_limit);
     double g0 = LogCallback::call(u0, &cb);
     cb.rethrow_if_failed();
-    if (g0 == 0.0) return std::exp(u0);
+    if (g0 == 0.0) return {std::exp(u0), 0.0};
     double step = (g0 < 0.0 ? 1.0 : -1.0) * first_step;
     double u1 = u0;
     double g1 = g0;
@@ -378,14 +405,17 @@ double solve_balance_K(double target_K4, const PlanckMean& planck, const Tempera
         u1 = next;
         g1 = LogCallback::call(u1, &cb);
         cb.rethrow_if_failed();
-        if (g1 == 0.0) return std::exp(u1);
+        if (g1 == 0.0) return {std::exp(u1), 0.0};
         if ((g0 < 0.0) != (g1 < 0.0)) break;
         step *= 2.0;
     }
     const double u =
         brent_root(cb, std::min(u0, u1), std::max(u0, u1), st.relative_tolerance, st.max_iterations,
-                   "grain temperature at " + num(distance_au) + " au");
-    return std::exp(u);
+                   "grain temperature at " + num(distance_au) + " au", st.residual_tolerance);
+    // GSL's root estimate is a point it has evaluated, so this comes from the memo.
+    const double residual = LogCallback::call(u, &cb);
+    cb.rethrow_if_failed();
+    return {std::exp(u), residual};
 }
 
 // Absorbed = emitted: <Q_abs>_* (L / 4 pi r^2) D pi s^2 = 4 pi s^2 <Q_abs>_T sigma T^4, so
@@ -413,8 +443,9 @@ Temperature equilibrium_temperature(Power luminosity, Length star_radius, Length
     check_temperature_settings(settings);
     const double target = absorbed_side_K4(luminosity, star_radius, distance, qabs_star_mean);
     // Bracket from the blackbody value T = A^(1/4), doubling the range.
-    return kelvin(solve_balance_K(target, qabs_planck_mean, settings, std::pow(target, 0.25),
-                                  std::log(2.0), in_astronomical_units(distance)));
+    return kelvin(solve_balance(target, qabs_planck_mean, settings, std::pow(target, 0.25),
+                                std::log(2.0), in_astronomical_units(distance))
+                      .temperature_K);
 }
 
 GrainTemperatureModel::GrainTemperatureModel(Power luminosity, Length star_radius,
@@ -435,29 +466,53 @@ double GrainTemperatureModel::absorbed_K4(Length distance) const {
 
 Temperature GrainTemperatureModel::temperature(Length distance) const {
     const double target = absorbed_K4(distance);
-    return kelvin(solve_balance_K(target, planck_, settings_, std::pow(target, 0.25), std::log(2.0),
-                                  in_astronomical_units(distance)));
+    return kelvin(solve_balance(target, planck_, settings_, std::pow(target, 0.25), std::log(2.0),
+                                in_astronomical_units(distance))
+                      .temperature_K);
 }
 
 std::vector<Temperature>
 GrainTemperatureModel::temperatures(std::span<const Length> distances) const {
     std::vector<Temperature> out;
     out.reserve(distances.size());
-    double previous_target = 0.0;
-    double previous_K = 0.0;
-    for (const Length& d : distances) {
-        const double target = absorbed_K4(d);
-        // A grain's deviation from the blackbody law changes slowly with distance, so the
-        // previous solution scaled by the blackbody law is a close first guess.
-        const bool warm = previous_K > 0.0;
-        const double guess =
-            warm ? previous_K * std::pow(target / previous_target, 0.25) : std::pow(target, 0.25);
-        const double t =
-            solve_balance_K(target, planck_, settings_, guess,
-                            warm ? std::log(1.05) : std::log(2.0), in_astronomical_units(d));
-        out.push_back(kelvin(t));
-        previous_target = target;
-        previous_K = t;
+    for (const TemperatureSolution& t : solve(distances))
+        out.push_back(t.temperature);
+    return out;
+}
+
+std::vector<TemperatureSolution>
+GrainTemperatureModel::solve(std::span<const Length> distances) const {
+    std::vector<TemperatureSolution> out;
+    out.reserve(distances.size());
+    // ln A and ln T of the last two solutions.
+    std::array<double, 2> log_a{};
+    std::array<double, 2> log_t{};
+    for (std::size_t i = 0; i < distances.size(); ++i) {
+        const double target = absorbed_K4(distances[i]);
+        const double la = std::log(target);
+        // First guess: the blackbody law T ~ A^(1/4) from scratch or from one solution; from
+        // two, the slope d ln T / d ln A = 1 / (4 + d ln<Q>_T / d ln T) they show, so the guess
+        // is off only by the curve's bending. The first bracket step is a tenth of the
+        // predicted change (at least 1e-7), or a factor 1.05 with one solution.
+        double guess_log_t = 0.25 * la;
+        double step = std::log(2.0);
+        if (i == 1) {
+            guess_log_t = log_t[1] + 0.25 * (la - log_a[1]);
+            step = std::log(1.05);
+        } else if (i >= 2 && log_a[1] != log_a[0]) {
+            const double slope = (log_t[1] - log_t[0]) / (log_a[1] - log_a[0]);
+            const double change = slope * (la - log_a[1]);
+            guess_log_t = log_t[1] + change;
+            step = std::clamp(0.1 * std::abs(change), 1e-7, std::log(1.05));
+        } else if (i >= 2) {
+            guess_log_t = log_t[1] + 0.25 * (la - log_a[1]);
+            step = std::log(1.05);
+        }
+        const BalanceSolution b = solve_balance(target, planck_, settings_, std::exp(guess_log_t),
+                                                step, in_astronomical_units(distances[i]));
+        out.push_back({kelvin(b.temperature_K), std::expm1(b.log_residual)});
+        log_a = {log_a[1], la};
+        log_t = {log_t[1], std::log(b.temperature_K)};
     }
     return out;
 }

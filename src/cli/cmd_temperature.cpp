@@ -187,7 +187,15 @@ Report run_temperature(const TemperatureOptions& o) {
         const double q_star = qabs_star_at(s_um);
         qabs_star_means.push_back(q_star);
         const GrainTemperatureModel model(star.luminosity, star.radius, q_star, planck_of(s_um));
-        const std::vector<TemperatureSolution> t = model.solve(distances);
+        std::vector<TemperatureSolution> t;
+        try {
+            t = model.solve(distances);
+        } catch (const InputError& e) {
+            // E.g. a very small grain far out: its Planck band reaches size parameters the Mie
+            // series does not take. Say which radius.
+            throw InputError(
+                fmt::format("--grain-radius: the grain of radius {:.4g} um: {}", s_um, e.what()));
+        }
         Cell r_sub = std::monostate{};
         if (t_sub) {
             if (const auto d = model.sublimation_distance(*t_sub)) {

@@ -33,6 +33,11 @@ inline constexpr double solar_gm_m3_s2 = 1.3271244e20;
 // The solar mass is GM_sun / G: its precision is that of G (u_r 2.2e-5), not of GM_sun.
 inline constexpr double solar_mass_kg = solar_gm_m3_s2 / gravitational_constant_SI;
 
+// ---- cosmology --------------------------------------------------------------------------------
+// Temperature of the cosmic microwave background today: Fixsen, D. J. 2009, ApJ 707, 916
+// (abstract: 2.72548 +- 0.00057 K). No grain far from a star is colder than this.
+inline constexpr double cmb_temperature_K = 2.72548;
+
 // ---- time and cgs units (definitions) --------------------------------------------------------
 inline constexpr double julian_year_s = 365.25 * 86400.0; // IAU: the Julian year, exact
 inline constexpr double erg_J = 1e-7;                     // exact

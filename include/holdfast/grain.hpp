@@ -129,6 +129,9 @@ struct TemperatureSettings {
     int max_iterations = 200;
     double lowest_K = 1.0; // the search refuses temperatures outside this range
     double highest_K = 1.0e5;
+    // The search also stops once |ln(emitted / absorbed)| is below this: the relative energy
+    // balance residual, usually reached before the bracket is 1e-9 wide.
+    double residual_tolerance = 1e-11;
 };
 
 // Fraction of the far-field flux L / (4 pi r^2) that a sphere at distance r from a
@@ -155,6 +158,75 @@ std::optional<Length> sublimation_distance(Power luminosity, Length star_radius,
                                            double qabs_star_mean,
                                            Temperature sublimation_temperature,
                                            double qabs_planck_mean_at_sublimation);
+
+// A solved temperature and the relative energy-balance residual there,
+// (emitted - absorbed) / absorbed = T^4 <Q_abs>_T / A(r) - 1, from the Planck mean the root
+// search evaluated at exactly that temperature.
+struct TemperatureSolution {
+    Temperature temperature;
+    double balance_residual = 0.0;
+};
+
+// One grain's energy balance at many distances. The absorbed side does not depend on T and
+// scales as D(r) / r^2, so it is fixed once per grain: A(r) = L <Q_abs>_* D(r) / (16 pi sigma r^2)
+// in K^4, and the temperature solves T^4 <Q_abs>_T = A(r) (the balance of
+// equilibrium_temperature, divided by 4 pi s^2 sigma).
+class GrainTemperatureModel {
+  public:
+    // Throws InputError unless luminosity, star radius and <Q_abs>_* are positive and finite.
+    GrainTemperatureModel(Power luminosity, Length star_radius, double qabs_star_mean,
+                          PlanckMean qabs_planck_mean, TemperatureSettings settings = {});
+
+    // A(r) in K^4; throws InputError for a distance inside the star.
+    double absorbed_K4(Length distance) const;
+    // The same result as equilibrium_temperature.
+    Temperature temperature(Length distance) const;
+    // Temperatures at several distances, in their order. Each root search after the first
+    // starts from the previous solutions extrapolated in ln T against ln A(r), with a small
+    // first bracket step, so a smooth curve costs about 4 Planck means per distance (tests/bench/
+    // bench_temperature) instead of about 7 from scratch.
+    std::vector<Temperature> temperatures(std::span<const Length> distances) const;
+    // The same with each solution's residual (no further Planck mean).
+    std::vector<TemperatureSolution> solve(std::span<const Length> distances) const;
+    // (emitted - absorbed) / absorbed at `distance` for a grain at `temperature`:
+    // T^4 <Q_abs>_T / A(r) - 1, with the Planck mean evaluated afresh. About 0 at the solution.
+    double balance_residual(Length distance, Temperature temperature) const;
+    // sublimation_distance() for this grain.
+    std::optional<Length> sublimation_distance(Temperature sublimation_temperature) const;
+
+  private:
+    Power luminosity_;
+    Length star_radius_;
+    double qabs_star_mean_;
+    PlanckMean planck_;
+    TemperatureSettings settings_;
+};
+
+// ln(absorbed / emitted) for a grain at `distance` if it had `sublimation_temperature`:
+// ln(L <Q_abs>_* D / (16 pi sigma r^2 T_sub^4 <Q_abs>_Tsub)). Positive where the equilibrium
+// temperature exceeds T_sub (T^4 <Q_abs>_T grows with T for every grain of interest: the
+// Planck mean falls no faster than T^-4), so its zeros in grain radius bound the radii that
+// sublimate at that distance. Throws InputError for bad arguments.
+double sublimation_margin(Power luminosity, Length star_radius, Length distance,
+                          double qabs_star_mean, Temperature sublimation_temperature,
+                          double qabs_planck_mean_at_sublimation);
+
+// Radii (micrometres, ascending) where a margin function of radius is >= 0, from a scan grid:
+// each interval's ends are the grid ends or sign changes refined by GSL's Brent solver in
+// ln(s), to settings.radius_relative_tolerance. Two sign changes closer than the grid spacing
+// can be missed.
+struct RadiusIntervals {
+    std::vector<double> from_um;
+    std::vector<double> to_um;
+    bool includes_smallest = false; // the first interval starts at the smallest scanned radius
+    bool includes_largest = false;  // the last interval ends at the largest scanned radius
+};
+// `scan_margin` holds margin(s) at `scan_radii_um` (ascending, at least 2). Throws InputError
+// for a bad grid, NumericalError if the margin is not finite or GSL fails.
+RadiusIntervals positive_radius_intervals(const std::function<double(double radius_um)>& margin,
+                                          std::span<const double> scan_radii_um,
+                                          std::span<const double> scan_margin,
+                                          const BlowoutSearchSettings& settings = {});
 
 // ---- efficiencies from Mie theory (implemented in grain_optics.cpp) ----------------------------
 // A spherical grain: homogeneous, or a core inside a concentric mantle.

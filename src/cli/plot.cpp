@@ -138,17 +138,25 @@ void write_plot(const std::string& path, const LogLogPlot& plot, std::string_vie
                          "\"gray40\"\n",
                          x, x);
     std::string plot_cmd = "plot ";
-    const char* colours[] = {"#1f77b4", "#2ca02c", "#9467bd", "#8c564b"};
-    for (std::size_t i = 0; i < plot.series.size(); ++i) {
-        const auto& ser = plot.series[i];
-        s += fmt::format("$d{} << EOD\n", i);
+    // Red is kept for the horizontal line.
+    const char* colours[] = {"#1f77b4", "#2ca02c", "#9467bd", "#8c564b", "#ff7f0e",
+                             "#17becf", "#e377c2", "#7f7f7f", "#bcbd22", "#000080"};
+    const std::size_t n_colours = sizeof colours / sizeof colours[0];
+    std::size_t index = 0;
+    auto add_series = [&](const PlotSeries& ser, const std::string& style) {
+        s += fmt::format("$d{} << EOD\n", index);
         for (std::size_t k = 0; k < ser.x.size() && k < ser.y.size(); ++k)
             if (ser.x[k] > 0 && ser.y[k] > 0)
                 s += fmt::format("{:.10g} {:.10g}\n", ser.x[k], ser.y[k]);
         s += "EOD\n";
-        plot_cmd += fmt::format("{}$d{} using 1:2 with lines lw 2 lc rgb \"{}\" title {}",
-                                i ? ", " : "", i, colours[i % 4], quoted(ser.title));
-    }
+        plot_cmd += fmt::format("{}$d{} using 1:2 with lines {} title {}", index ? ", " : "", index,
+                                style, quoted(ser.title));
+        ++index;
+    };
+    for (std::size_t i = 0; i < plot.series.size(); ++i)
+        add_series(plot.series[i], fmt::format("lw 2 lc rgb \"{}\"", colours[i % n_colours]));
+    for (const auto& ser : plot.dashed_series)
+        add_series(ser, "dt 4 lw 1.5 lc rgb \"gray30\"");
     if (plot.horizontal_line)
         plot_cmd += fmt::format(", {:.10g} with lines dt 2 lw 1.5 lc rgb \"#d62728\" title {}",
                                 *plot.horizontal_line, quoted(plot.horizontal_label));

@@ -27,6 +27,7 @@ struct LogLogPlot {
     std::string x_label;
     std::string y_label;
     std::vector<PlotSeries> series;
+    std::vector<PlotSeries> dashed_series; // comparison curves, drawn dashed in grey
     std::optional<double> horizontal_line; // e.g. beta_crit
     std::string horizontal_label;
     std::vector<double> vertical_marks; // e.g. blow-out radii

@@ -6,17 +6,21 @@
 //   Wyatt, S. P. & Whipple, F. L. 1950, ApJ 111, 134: Poynting-Robertson decay of orbits.
 //   Murray, C. D. & Dermott, S. F. 1999, Solar System Dynamics (CUP), ch. 2: two-body
 //     orbit from position and velocity (vis-viva, angular momentum, eccentricity).
+//   Wyatt, M. C. 2008, ARA&A 46, 339 (from memory): the blackbody grain temperature
+//     278.3 K (L/Lsun)^(1/4) (r/au)^(-1/2) (derived at equilibrium_temperature below).
 //   Brent, R. P. 1973, Algorithms for Minimization without Derivatives (Prentice-Hall):
 //     the root finder and minimiser used through GSL (gsl_root_fsolver_brent,
 //     gsl_min_fminimizer_brent).
 #include "holdfast/grain.hpp"
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <cstdio>
 #include <exception>
 #include <numbers>
 #include <string>
+#include <utility>
 
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_min.h>
@@ -78,9 +82,11 @@ struct RootSolver {
 };
 
 // Root of cb in [lo, hi] (values of different sign at the ends) to an absolute tolerance in
-// the variable u (ln of the physical variable, so a relative tolerance in it).
+// the variable u (ln of the physical variable, so a relative tolerance in it), or, when
+// residual_tolerance > 0, as soon as |cb(root)| is below it (cb should then remember its last
+// values: GSL has already evaluated the root estimate).
 double brent_root(LogCallback& cb, double lo, double hi, double tolerance, int max_iterations,
-                  const std::string& what) {
+                  const std::string& what, double residual_tolerance = 0.0) {
     RootSolver solver;
     gsl_function fn{&LogCallback::call, &cb};
     int status = gsl_root_fsolver_set(solver.s, &fn, lo, hi);
@@ -95,8 +101,13 @@ double brent_root(LogCallback& cb, double lo, double hi, double tolerance, int m
             throw NumericalError(what + ": GSL Brent root solver failed: " + gsl_strerror(status));
         const double a = gsl_root_fsolver_x_lower(solver.s);
         const double b = gsl_root_fsolver_x_upper(solver.s);
-        if (gsl_root_test_interval(a, b, tolerance, 0.0) == GSL_SUCCESS)
-            return gsl_root_fsolver_root(solver.s);
+        const double root = gsl_root_fsolver_root(solver.s);
+        if (gsl_root_test_interval(a, b, tolerance, 0.0) == GSL_SUCCESS) return root;
+        if (residual_tolerance > 0.0) {
+            const double r = LogCallback::call(root, &cb);
+            cb.rethrow_if_failed();
+            if (gsl_root_test_residual(r, residual_tolerance) == GSL_SUCCESS) return root;
+        }
     }
     throw NumericalError(what + ": GSL Brent root solver did not converge in " +
                          std::to_string(max_iterations) + " iterations");
@@ -328,59 +339,261 @@ double finite_disc_factor(Length distance, Length star_radius) {
     return 2.0 / (1.0 + std::sqrt(1.0 - u));
 }
 
+namespace {
+
+void check_temperature_settings(const TemperatureSettings& s) {
+    if (!(s.lowest_K > 0.0) || !(s.highest_K > s.lowest_K) || !std::isfinite(s.highest_K))
+        throw InputError("the temperature search range must satisfy 0 < lowest < highest, got " +
+                         num(s.lowest_K) + " to " + num(s.highest_K) + " K");
+    if (!(s.relative_tolerance > 0.0) || !(s.residual_tolerance >= 0.0) || s.max_iterations < 1)
+        throw InputError("the temperature tolerance and iteration limit must be positive");
+}
+
+// T^4 <Q_abs>_T = A solved for T (A = target_K4) by GSL's Brent method in u = ln T, so the
+// tolerance on u is a relative one on T. The bracket grows from `guess_K` towards the root by
+// steps of `first_step` in u, doubling each time; `distance_au` names the search in messages.
+struct BalanceSolution {
+    double temperature_K = 0.0;
+    double log_residual = 0.0; // ln(emitted / absorbed) at temperature_K
+};
+
+BalanceSolution solve_balance(double target_K4, const PlanckMean& planck,
+                              const TemperatureSettings& st, double guess_K, double first_step,
+                              double distance_au) {
+    const double log_target = std::log(target_K4);
+    // The last few evaluations, so the points the bracket search already has, and the root
+    // estimate GSL has just computed, cost no second Planck mean.
+    struct Memo {
+        double t_K = -1.0;
+        double value = 0.0;
+    };
+    std::array<Memo, 4> memo{};
+    std::size_t slot = 0;
+    const std::function<double(double)> balance = [&](double t_K) {
+        for (const Memo& m : memo)
+            if (m.t_K == t_K) return m.value;
+        const double q = planck(t_K);
+        if (!(q > 0.0) || !std::isfinite(q))
+            throw NumericalError("the grain's Planck-mean absorption efficiency at " + num(t_K) +
+                                 " K is not a positive number (" + num(q) + ")");
+        const double value = 4.0 * std::log(t_K) + std::log(q);
+        memo[slot] = {t_K, value};
+        slot = (slot + 1) % memo.size();
+        return value;
+    };
+    LogCallback cb;
+    cb.f = &balance;
+    cb.shift = log_target;
+
+    const double lo_limit = std::log(st.lowest_K);
+    const double hi_limit = std::log(st.highest_K);
+    double u0 = std::clamp(std::log(guess_K), lo_limit, hi_limit);
+    double g0 = LogCallback::call(u0, &cb);
+    cb.rethrow_if_failed();
+    if (g0 == 0.0) return {std::exp(u0), 0.0};
+    double step = (g0 < 0.0 ? 1.0 : -1.0) * first_step;
+    double u1 = u0;
+    double g1 = g0;
+    while (true) {
+        const double next = std::clamp(u1 + step, lo_limit, hi_limit);
+        if (next == u1)
+            throw NumericalError("no grain temperature between " + num(st.lowest_K) + " and " +
+                                 num(st.highest_K) + " K balances absorbed and emitted power at " +
+                                 num(distance_au) + " au");
+        u0 = u1;
+        g0 = g1;
+        u1 = next;
+        g1 = LogCallback::call(u1, &cb);
+        cb.rethrow_if_failed();
+        if (g1 == 0.0) return {std::exp(u1), 0.0};
+        if ((g0 < 0.0) != (g1 < 0.0)) break;
+        step *= 2.0;
+    }
+    const double u =
+        brent_root(cb, std::min(u0, u1), std::max(u0, u1), st.relative_tolerance, st.max_iterations,
+                   "grain temperature at " + num(distance_au) + " au", st.residual_tolerance);
+    // GSL's root estimate is a point it has evaluated, so this comes from the memo.
+    const double residual = LogCallback::call(u, &cb);
+    cb.rethrow_if_failed();
+    return {std::exp(u), residual};
+}
+
+// Absorbed = emitted: <Q_abs>_* (L / 4 pi r^2) D pi s^2 = 4 pi s^2 <Q_abs>_T sigma T^4, so
+// T^4 <Q_abs>_T = L <Q_abs>_* D / (16 pi sigma r^2) =: A, in K^4.
+double absorbed_side_K4(Power luminosity, Length star_radius, Length distance,
+                        double qabs_star_mean) {
+    const double d = finite_disc_factor(distance, star_radius);
+    const double r = distance.value();
+    return luminosity.value() * qabs_star_mean * d / (16.0 * pi * sigma_SI * r * r);
+}
+
+} // namespace
+
+// The blackbody limit (Q_abs = 1 in starlight and in the infrared) far from the star (D = 1):
+// pi s^2 L / (4 pi r^2) = 4 pi s^2 sigma T^4 gives T = (L / (16 pi sigma r^2))^(1/4). With the
+// IAU 2015 solar luminosity, the au and CODATA 2018 sigma, (Lsun / (16 pi sigma au^2))^(1/4) =
+// 278.3 K, so T = 278.3 K (L/Lsun)^(1/4) (r/au)^(-1/2), the law quoted by Wyatt (2008; recalled
+// from memory); tests/grain_test.cpp checks it.
 Temperature equilibrium_temperature(Power luminosity, Length star_radius, Length distance,
                                     double qabs_star_mean, const PlanckMean& qabs_planck_mean,
                                     const TemperatureSettings& settings) {
     require_positive(luminosity.value(), "the luminosity");
     require_positive(qabs_star_mean, "the grain's mean absorption efficiency in starlight");
     if (!qabs_planck_mean) throw InternalError("equilibrium_temperature needs a Planck mean");
-    const double d = finite_disc_factor(distance, star_radius);
-    const double r = distance.value();
-    // Absorbed = emitted: <Q_abs>_* (L / 4 pi r^2) D pi s^2 = 4 pi s^2 <Q_abs>_T sigma T^4, so
-    // T^4 <Q_abs>_T = L <Q_abs>_* D / (16 pi sigma r^2) =: A.
-    const double target = luminosity.value() * qabs_star_mean * d / (16.0 * pi * sigma_SI * r * r);
-    const double log_target = std::log(target);
-    const std::function<double(double)> balance = [&](double t_K) {
-        const double q = qabs_planck_mean(t_K);
-        if (!(q > 0.0) || !std::isfinite(q))
-            throw NumericalError("the grain's Planck-mean absorption efficiency at " + num(t_K) +
-                                 " K is not a positive number (" + num(q) + ")");
-        return 4.0 * std::log(t_K) + std::log(q);
-    };
-    LogCallback cb;
-    cb.f = &balance;
-    cb.shift = log_target;
+    check_temperature_settings(settings);
+    const double target = absorbed_side_K4(luminosity, star_radius, distance, qabs_star_mean);
+    // Bracket from the blackbody value T = A^(1/4), doubling the range.
+    return kelvin(solve_balance(target, qabs_planck_mean, settings, std::pow(target, 0.25),
+                                std::log(2.0), in_astronomical_units(distance))
+                      .temperature_K);
+}
 
-    // Bracket from the blackbody value T = A^(1/4), doubling or halving the range.
-    const double lo_limit = std::log(settings.lowest_K);
-    const double hi_limit = std::log(settings.highest_K);
-    double u0 = std::clamp(0.25 * log_target, lo_limit, hi_limit);
-    double g0 = LogCallback::call(u0, &cb);
-    cb.rethrow_if_failed();
-    if (g0 == 0.0) return kelvin(std::exp(u0));
-    const double step = (g0 < 0.0 ? 1.0 : -1.0) * std::log(2.0);
-    double u1 = u0;
-    double g1 = g0;
-    while (true) {
-        const double next = std::clamp(u1 + step, lo_limit, hi_limit);
-        if (next == u1)
-            throw NumericalError("no grain temperature between " + num(settings.lowest_K) +
-                                 " and " + num(settings.highest_K) +
-                                 " K balances absorbed and emitted power at " +
-                                 num(in_astronomical_units(distance)) + " au");
-        u0 = u1;
-        g0 = g1;
-        u1 = next;
-        g1 = LogCallback::call(u1, &cb);
-        cb.rethrow_if_failed();
-        if (g1 == 0.0) return kelvin(std::exp(u1));
-        if ((g0 < 0.0) != (g1 < 0.0)) break;
+GrainTemperatureModel::GrainTemperatureModel(Power luminosity, Length star_radius,
+                                             double qabs_star_mean, PlanckMean qabs_planck_mean,
+                                             TemperatureSettings settings)
+    : luminosity_(luminosity), star_radius_(star_radius), qabs_star_mean_(qabs_star_mean),
+      planck_(std::move(qabs_planck_mean)), settings_(settings) {
+    require_positive(luminosity.value(), "the luminosity");
+    require_positive(star_radius.value(), "the stellar radius");
+    require_positive(qabs_star_mean, "the grain's mean absorption efficiency in starlight");
+    if (!planck_) throw InternalError("GrainTemperatureModel needs a Planck mean");
+    check_temperature_settings(settings_);
+}
+
+double GrainTemperatureModel::absorbed_K4(Length distance) const {
+    return absorbed_side_K4(luminosity_, star_radius_, distance, qabs_star_mean_);
+}
+
+Temperature GrainTemperatureModel::temperature(Length distance) const {
+    const double target = absorbed_K4(distance);
+    return kelvin(solve_balance(target, planck_, settings_, std::pow(target, 0.25), std::log(2.0),
+                                in_astronomical_units(distance))
+                      .temperature_K);
+}
+
+std::vector<Temperature>
+GrainTemperatureModel::temperatures(std::span<const Length> distances) const {
+    std::vector<Temperature> out;
+    out.reserve(distances.size());
+    for (const TemperatureSolution& t : solve(distances))
+        out.push_back(t.temperature);
+    return out;
+}
+
+std::vector<TemperatureSolution>
+GrainTemperatureModel::solve(std::span<const Length> distances) const {
+    std::vector<TemperatureSolution> out;
+    out.reserve(distances.size());
+    // ln A and ln T of the last two solutions.
+    std::array<double, 2> log_a{};
+    std::array<double, 2> log_t{};
+    for (std::size_t i = 0; i < distances.size(); ++i) {
+        const double target = absorbed_K4(distances[i]);
+        const double la = std::log(target);
+        // First guess: the blackbody law T ~ A^(1/4) from scratch or from one solution; from
+        // two, the slope d ln T / d ln A = 1 / (4 + d ln<Q>_T / d ln T) they show, so the guess
+        // is off only by the curve's bending. The first bracket step is a tenth of the
+        // predicted change (at least 1e-7), or a factor 1.05 with one solution.
+        double guess_log_t = 0.25 * la;
+        double step = std::log(2.0);
+        if (i == 1) {
+            guess_log_t = log_t[1] + 0.25 * (la - log_a[1]);
+            step = std::log(1.05);
+        } else if (i >= 2 && log_a[1] != log_a[0]) {
+            const double slope = (log_t[1] - log_t[0]) / (log_a[1] - log_a[0]);
+            const double change = slope * (la - log_a[1]);
+            guess_log_t = log_t[1] + change;
+            step = std::clamp(0.1 * std::abs(change), 1e-7, std::log(1.05));
+        } else if (i >= 2) {
+            guess_log_t = log_t[1] + 0.25 * (la - log_a[1]);
+            step = std::log(1.05);
+        }
+        const BalanceSolution b = solve_balance(target, planck_, settings_, std::exp(guess_log_t),
+                                                step, in_astronomical_units(distances[i]));
+        out.push_back({kelvin(b.temperature_K), std::expm1(b.log_residual)});
+        log_a = {log_a[1], la};
+        log_t = {log_t[1], std::log(b.temperature_K)};
     }
-    const double u =
-        brent_root(cb, std::min(u0, u1), std::max(u0, u1), settings.relative_tolerance,
-                   settings.max_iterations,
-                   "grain temperature at " + num(in_astronomical_units(distance)) + " au");
-    return kelvin(std::exp(u));
+    return out;
+}
+
+double GrainTemperatureModel::balance_residual(Length distance, Temperature temperature) const {
+    require_positive(temperature.value(), "the grain temperature");
+    const double t = temperature.value();
+    return t * t * t * t * planck_(t) / absorbed_K4(distance) - 1.0;
+}
+
+std::optional<Length> GrainTemperatureModel::sublimation_distance(Temperature t_sub) const {
+    require_positive(t_sub.value(), "the sublimation temperature");
+    return holdfast::sublimation_distance(luminosity_, star_radius_, qabs_star_mean_, t_sub,
+                                          planck_(t_sub.value()));
+}
+
+double sublimation_margin(Power luminosity, Length star_radius, Length distance,
+                          double qabs_star_mean, Temperature sublimation_temperature,
+                          double qabs_planck_mean_at_sublimation) {
+    require_positive(luminosity.value(), "the luminosity");
+    require_positive(qabs_star_mean, "the grain's mean absorption efficiency in starlight");
+    require_positive(sublimation_temperature.value(), "the sublimation temperature");
+    require_positive(qabs_planck_mean_at_sublimation,
+                     "the grain's Planck-mean absorption efficiency");
+    const double t = sublimation_temperature.value();
+    return std::log(absorbed_side_K4(luminosity, star_radius, distance, qabs_star_mean)) -
+           std::log(t * t * t * t * qabs_planck_mean_at_sublimation);
+}
+
+RadiusIntervals positive_radius_intervals(const std::function<double(double radius_um)>& margin,
+                                          std::span<const double> scan_radii_um,
+                                          std::span<const double> scan_margin,
+                                          const BlowoutSearchSettings& settings) {
+    const std::size_t n = scan_radii_um.size();
+    if (n < 2 || scan_margin.size() != n)
+        throw InputError("the radius search needs at least 2 radii, each with its value");
+    for (std::size_t i = 0; i < n; ++i) {
+        require_positive(scan_radii_um[i], "a grain radius");
+        if (!std::isfinite(scan_margin[i]))
+            throw NumericalError("the searched function at " + num(scan_radii_um[i]) +
+                                 " um is not finite");
+        if (i > 0 && !(scan_radii_um[i] > scan_radii_um[i - 1]))
+            throw InputError("the grain radii of the search must increase");
+    }
+    if (!(settings.radius_relative_tolerance > 0.0))
+        throw InputError("the radius tolerance must be positive");
+    LogCallback cb;
+    cb.f = &margin;
+    RadiusIntervals out;
+    bool inside = scan_margin[0] >= 0.0;
+    if (inside) {
+        out.from_um.push_back(scan_radii_um[0]);
+        out.includes_smallest = true;
+    }
+    for (std::size_t i = 0; i + 1 < n; ++i) {
+        const double g0 = scan_margin[i];
+        const double g1 = scan_margin[i + 1];
+        if ((g0 >= 0.0) == (g1 >= 0.0)) continue;
+        const double lo = scan_radii_um[i];
+        const double hi = scan_radii_um[i + 1];
+        double edge = 0.0;
+        if (g0 == 0.0) {
+            edge = lo; // leaving at a grid point
+        } else if (g1 == 0.0) {
+            edge = hi; // entering at a grid point
+        } else {
+            edge = std::exp(brent_root(cb, std::log(lo), std::log(hi),
+                                       settings.radius_relative_tolerance, settings.max_iterations,
+                                       "radius between " + num(lo) + " and " + num(hi) + " um"));
+        }
+        if (inside)
+            out.to_um.push_back(edge);
+        else
+            out.from_um.push_back(edge);
+        inside = !inside;
+    }
+    if (inside) {
+        out.to_um.push_back(scan_radii_um[n - 1]);
+        out.includes_largest = true;
+    }
+    return out;
 }
 
 std::optional<Length> sublimation_distance(Power luminosity, Length star_radius,

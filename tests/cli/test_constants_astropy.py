@@ -9,6 +9,7 @@ args = harness.options()
 harness.astropy_or_skip()
 import astropy.constants as const  # noqa: E402
 import astropy.units as u  # noqa: E402
+from astropy.cosmology import Planck18  # noqa: E402
 
 out = subprocess.run([args.dump, "constants"], capture_output=True, text=True, check=True).stdout
 ours = {name: float(v) for name, v in (line.split() for line in out.splitlines())}
@@ -34,6 +35,9 @@ expected = {
     "solar_mass_kg": (const.M_sun.si.value, 1e-15, "IAU 2015 B3: GM_sun / G"),
     "julian_year_s": ((1 * u.yr).to(u.s).value, 0.0, "Julian year, exact"),
     "erg_J": ((1 * u.erg).to(u.J).value, 1e-15, "exact; astropy rounds 1e-7 in its conversion"),
+    # astropy has no CMB constant; its Planck 2018 cosmology quotes Fixsen (2009) rounded to
+    # 2.7255 K, hence 2e-5.
+    "cmb_temperature_K": (Planck18.Tcmb0.to(u.K).value, 2e-5, "Fixsen 2009 via astropy Planck18"),
 }
 for name, (value, rel, why) in expected.items():
     checks.check(name in ours, f"{name} missing from holdfast_dump")

@@ -36,6 +36,7 @@ int main(int argc, char** argv) {
             {"solar_mass_kg", solar_mass_kg},
             {"julian_year_s", julian_year_s},
             {"erg_J", erg_J},
+            {"cmb_temperature_K", cmb_temperature_K},
         };
         for (const auto& r : rows) std::printf("%s %.17g\n", r.name, r.value);
         return 0;

@@ -195,7 +195,8 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 // The kernel runs in passes over buffers instead of one loop over n, so that most of the
 // work has no dependency from one n to the next and vectorises:
 //  1. D_n(mx), n = 0..N, by the downward recurrence, cut into parallel lanes
-//     (log_derivative_lanes), or serially when it is short (log_derivative_serial);
+//     (log_derivative_lanes), or serially when it is short (log_derivative_serial: the bare
+//     chain first, D_n from its stored values afterwards in a vectorised loop);
 //  2. psi_n(x), chi_n(x), n = 0..N, upward (UpwardRiccati): a serial chain, interleaved
 //     with pass 1 so that its latency is hidden;
 //  3. a_n, b_n and the efficiency sums (coefficient_sums), independent in n;
@@ -573,12 +574,13 @@ constexpr int serial_max_steps = 96;
 // (psi_{n-1} = a_n psi_n - psi_{n+1}, two multiply-adds of latency per step and nothing else),
 // storing psi_n for n <= n_terms + 1, then D_n = (n+1)/z - psi_{n+1}/psi_n for all n at once
 // in a vectorised loop. Keeping the division and the stores of D_n out of the chain's loop
-// roughly halves its time per step (the loop was throughput-bound, not latency-bound).
+// saves about a sixth of a call at x = 10 (the loop was bound by instruction throughput).
 // The chain is rescaled by `shrink` (an exact power of two) when it grows past `big`,
 // checked every 4 steps and never more than 8 steps apart: 8 steps grow it by at most
 // ((2n+1)/|z| + 1)^8 <= 7722^8 ~ 1e31 here (n <= serial_max_steps, |z| >= n_min
-// small_x_limit = 0.025), so it stays below 3e121, far from overflow also when squared. A rescale inside the stored range leaves one pair psi_{k+1}, psi_k at different
-// scales; the D_k of that pair is formed again afterwards with psi_{k+1} scaled as well.
+// small_x_limit = 0.025), so it stays below 3e121, far from overflow also when squared.
+// A rescale inside the stored range, after psi_k is stored, leaves psi_k and psi_{k-1} at
+// different scales; the D_{k-1} of that pair is formed again afterwards with psi_k scaled.
 HOLDFAST_MIE_INLINE void log_derivative_serial(cplx inv_z, int start, int n_terms, double* d_re,
                                                double* d_im, double* p_re, double* p_im,
                                                const double* tn, UpwardRiccati& riccati) {
@@ -878,9 +880,8 @@ MieEfficiencies mie_sphere(std::complex<double> m, double x) {
     // The range test inline (NaN fails every comparison); the checks that throw, with their
     // messages, only when it fails.
     const bool in_range = m.real() >= MieRange::n_min && m.real() <= MieRange::n_max &&
-                          m.imag() >= 0.0 && m.imag() <= MieRange::k_max &&
-                          x >= MieRange::x_min && x <= MieRange::x_max_series &&
-                          detail::within_mx_cap(m, x);
+                          m.imag() >= 0.0 && m.imag() <= MieRange::k_max && x >= MieRange::x_min &&
+                          x <= MieRange::x_max_series && detail::within_mx_cap(m, x);
     if (!in_range) {
         detail::check_index(m, "mie_sphere");
         detail::check_size_parameter(x, MieRange::x_max_series, "mie_sphere");

@@ -82,7 +82,7 @@ MieEfficiencies mie_perfect_conductor(double x);
 // rays of every order attenuated along their chords (geometric optics), diffraction taken
 // as exactly forward. q_back is the specular back-reflection |(m-1)/(m+1)|^2 only (no glory
 // or axial focusing). Its error against the exact series is measured in tests/mie_test.cpp
-// and quoted in README ("Mie efficiencies").
+// and quoted in README ("The Mie series").
 MieEfficiencies mie_geometric_optics(std::complex<double> m, double x);
 
 // The exact series up to MieRange::x_max_series and |m| x <= MieRange::mx_max_series, the

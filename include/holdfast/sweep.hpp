@@ -67,7 +67,7 @@ struct SweepSpec {
     bool has_distance_axis = false; // a distance-dependent quantity was asked for
 };
 
-// Parses a sweep file's text (see README "Sweeps" for the schema). Relative file names (nk,
+// Parses a sweep file's text (see README "The sweep file" for the schema). Relative file names (nk,
 // spectrum) are taken relative to `base_folder`. Throws InputError whose message starts with
 // "SOURCE:LINE: KEY:" for an unknown key, a value of the wrong type, a quantity with the wrong
 // unit or out of range, or a missing required key; DataFileError for a bad nk or spectrum file

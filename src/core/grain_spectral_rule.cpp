@@ -51,7 +51,7 @@
 // three sizes per decade, interpolated (cubic in ln x). Either way a curve no longer sums
 // the series at every node up to the largest x.
 //
-// Accuracy (README "Grains", tests/grain_optics_test.cpp): against the adaptive quadrature at
+// Accuracy (README "Spectral means", tests/grain_optics_test.cpp): against the adaptive quadrature at
 // tolerance 1e-8 with the exact series at every size, or against this rule with panels a
 // quarter as wide and the exact series at every size, <Q_pr> is within 4e-5 relative and
 // <Q_abs> within 6e-5 for the shipped materials, porous ice-like and ice-coated grains.

@@ -8,6 +8,6 @@ here="$(cd "$(dirname "$0")" && pwd)"
 
 "$holdfast" blowout "${veyra[@]}" --material carbon --eccentricity 0.93 --release pericentre \
     --distance 0.12 au --grain-radius 20 um --format json \
-    --output "$out/02-comet-release.json"
+    --output "$out/04-comet-release.json"
 "$holdfast" blowout "${veyra[@]}" --material carbon --eccentricity 0.93 --release pericentre \
     --distance 0.12 au --grain-radius 20 um

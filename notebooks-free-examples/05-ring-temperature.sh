@@ -9,6 +9,6 @@ here="$(cd "$(dirname "$0")" && pwd)"
 
 "$holdfast" temperature "${veyra[@]}" --material carbon --grain-radius 10 um \
     --distances 1au..100au --points 12 --sublimation-temperature 110 K \
-    --format csv --output "$out/03-ring-temperature.csv"
+    --format csv --output "$out/05-ring-temperature.csv"
 "$holdfast" temperature "${veyra[@]}" --material carbon --grain-radius 10 um \
     --distances 1au..100au --points 12 --sublimation-temperature 110 K

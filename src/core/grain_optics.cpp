@@ -199,8 +199,10 @@ namespace {
 // including the nearly transparent ones on which the adaptive quadrature chases resonance
 // spikes for minutes. Indices that vary with wavelength (tabulated optical constants) use its
 // companion rule in ln(lambda) (WavelengthRuleCurve). Tolerances tighter than they are built
-// for (below 1e-7) keep the adaptive quadrature with the large-sphere shortcut of this file,
-// which is also what the accuracy tests use as their reference.
+// for (below 1e-7) keep the adaptive quadrature with the large-sphere shortcut of this file
+// for starlight means, which is also what the accuracy tests use as their reference; Planck
+// means there, and of every index that varies with wavelength, take PlanckNodeRule (Q_abs on
+// nodes fixed per grain, see planck_qabs_mean).
 bool use_fixed_rule(const GrainEfficiencySettings& settings) {
     return settings.spectral.relative_tolerance >= detail::fixed_rule_tightest_tolerance;
 }

@@ -888,18 +888,22 @@ FixedRuleMeans WavelengthRuleCurve::means(const Spectrum& spectrum, double radiu
 // Planck band. Q_abs(lambda) of the grain is the same at every temperature, so it is computed
 // once on nodes fixed in u = ln(lambda) (PlanckNodeRule) and every mean is a weighted sum.
 // The panels: cells [j h, (j + 1) h] of the coarse lattice, clipped to the optics' range and
-// cut at kinks (table rows), each split into panels no wider than the wavelength rule's width
-// for resonances and interference at the cell's largest x (see WavelengthRuleCurve::means).
-// Each panel is then checked by bisection: its 8-point interpolant must reproduce Q_abs at the
-// 16 nodes of its two halves to within tol * (its mean |Q_abs|), or each half is checked in
-// turn (at most 24 levels deep); the halves that pass are kept, so the kept nodes are finer
-// than what the test accepted. Error: the Planck weight is smooth on a panel (at most h wide,
-// e^{-hc/lambda kT} changes by e^{~1.3} across one at the band's short end), so the 8-point
-// rule integrates (interpolant x weight) to rounding and the mean's error is at most the
-// interpolation error, tol relative to <|Q_abs|> (an upper bound: the kept halves are more
-// accurate than the panel that passed). tests/grain_optics_test.cpp measures it against the
-// adaptive quadrature at 1e-10. Panels cut by a band's end use 8 fresh nodes on the part inside,
-// with Q_abs from the panel's interpolant, so the band ends are exact (no snapping).
+// cut at kinks (table rows), each split into seed panels no wider than twice the wavelength
+// rule's width for resonances and interference at the cell's largest x (see
+// WavelengthRuleCurve::means). Each seed is then checked by bisection: its 8-point interpolant must
+// reproduce Q_abs at the 16 nodes of its two halves to within tol * (its mean |Q_abs|), or each
+// half is checked in turn (at most 24 levels deep); the halves that pass are kept, so the kept
+// nodes are finer than what the test accepted. A cell wholly inside a band is summed as sum_k w_k
+// F(u_k) over its own 8 Gauss nodes u_k, w_k = int Q_abs L_k du from the panels (product
+// integration, as FixedRuleCurve does with the spectrum interpolated through the coarse nodes), so
+// a mean costs 8 Planck values per cell however fine the panels. Error: the Planck weight is smooth
+// on a cell (h = 0.03125 at tolerance 1e-6; across one at the band's short end, where hc / lambda
+// kT ~ 30, e^{-hc/lambda kT} changes by a factor e^{~1}, so its degree-7 interpolant is good to
+// ~1e-7 there and far better elsewhere), and Q_abs's interpolants are good to tol relative to
+// <|Q_abs|> (an upper bound: the kept halves are more accurate than the panel that passed).
+// tests/planck_mean_test.cpp measures the whole against the adaptive quadrature at 1e-10. Panels of
+// a cell cut by a band's end use 8 fresh nodes on the part inside, with Q_abs from the panel's
+// interpolant, so the band ends are exact (no snapping).
 
 namespace {
 
@@ -1026,31 +1030,54 @@ void PlanckNodeRule::refine(const Panel& p, int depth, std::vector<Panel>& out) 
     refine(right, depth + 1, out);
 }
 
-const std::vector<PlanckNodeRule::Panel>& PlanckNodeRule::cell(long j) {
+const PlanckNodeRule::Cell& PlanckNodeRule::cell(long j) {
     if (auto it = cells_.find(j); it != cells_.end()) return it->second;
     const double h = density_.coarse_ln_width;
-    const double a = std::max(h * static_cast<double>(j), u_min_);
-    const double b = std::min(h * static_cast<double>(j + 1), u_max_);
-    std::vector<Panel> panels;
-    if (b > a) {
-        std::vector<double> cuts{a};
-        for (auto it = std::upper_bound(kinks_u_.begin(), kinks_u_.end(), a);
-             it != kinks_u_.end() && *it < b; ++it)
+    Cell c;
+    c.a = std::max(h * static_cast<double>(j), u_min_);
+    c.b = std::min(h * static_cast<double>(j + 1), u_max_);
+    if (c.b > c.a) {
+        std::vector<double> cuts{c.a};
+        for (auto it = std::upper_bound(kinks_u_.begin(), kinks_u_.end(), c.a);
+             it != kinks_u_.end() && *it < c.b; ++it)
             if (*it - cuts.back() > 1e-12) cuts.push_back(*it);
-        if (b - cuts.back() <= 1e-12 && cuts.size() > 1) cuts.pop_back();
-        cuts.push_back(b);
-        for (std::size_t c = 0; c + 1 < cuts.size(); ++c) {
-            const double pa = cuts[c], pb = cuts[c + 1];
-            const int n =
-                std::max(1, static_cast<int>(std::ceil((pb - pa) / initial_width(pa, pb) - 1e-9)));
+        if (c.b - cuts.back() <= 1e-12 && cuts.size() > 1) cuts.pop_back();
+        cuts.push_back(c.b);
+        for (std::size_t k = 0; k + 1 < cuts.size(); ++k) {
+            const double pa = cuts[k], pb = cuts[k + 1];
+            // Seeds twice the wavelength rule's width: each is checked against its halves,
+            // which are kept, so the nodes are at least as dense as that rule's everywhere.
+            const int n = std::max(
+                1, static_cast<int>(std::ceil((pb - pa) / (2.0 * initial_width(pa, pb)) - 1e-9)));
             const double step = (pb - pa) / n;
-            for (int k = 0; k < n; ++k) {
-                const double qa = pa + step * k, qb = k + 1 == n ? pb : qa + step;
-                refine(Panel{qa, qb, values(qa, qb)}, 0, panels);
+            for (int i = 0; i < n; ++i) {
+                const double qa = pa + step * i, qb = i + 1 == n ? pb : qa + step;
+                refine(Panel{qa, qb, values(qa, qb)}, 0, c.panels);
+            }
+        }
+        // Product-integration weights w_k = int Q_abs L_k du, by every panel's own rule.
+        const GaussRule& g = gauss8();
+        const std::array<double, 8>& bw = barycentric_weights();
+        for (const Panel& p : c.panels) {
+            for (std::size_t i = 0; i < 8; ++i) {
+                const double u = 0.5 * (p.a + p.b) + 0.5 * (p.b - p.a) * g.t[i];
+                const double t = (2.0 * u - c.a - c.b) / (c.b - c.a);
+                const double wq = 0.5 * (p.b - p.a) * g.w[i] * p.q[i];
+                std::array<double, 8> l{};
+                double total = 0.0;
+                std::size_t exact = 8;
+                for (std::size_t k = 0; k < 8; ++k) {
+                    const double d = t - g.t[k];
+                    if (d == 0.0) exact = k;
+                    l[k] = d == 0.0 ? 0.0 : bw[k] / d;
+                    total += l[k];
+                }
+                for (std::size_t k = 0; k < 8; ++k)
+                    c.w[k] += wq * (exact < 8 ? (k == exact ? 1.0 : 0.0) : l[k] / total);
             }
         }
     }
-    return cells_.emplace(j, std::move(panels)).first->second;
+    return cells_.emplace(j, std::move(c)).first->second;
 }
 
 double PlanckNodeRule::mean(const Spectrum& spectrum, const WavelengthBand& band) {
@@ -1066,7 +1093,19 @@ double PlanckNodeRule::mean(const Spectrum& spectrum, const WavelengthBand& band
     const long j0 = static_cast<long>(std::floor(u_lo / h));
     const long j1 = static_cast<long>(std::floor(u_hi / h));
     for (long j = j0; j <= j1; ++j) {
-        for (const Panel& p : cell(j)) {
+        const Cell& c = cell(j);
+        if (!(c.b > c.a) || c.b <= u_lo || c.a >= u_hi) continue;
+        if (c.a >= u_lo && c.b <= u_hi) {
+            // The spectrum interpolated through the cell's 8 nodes (smooth on it: see above).
+            for (std::size_t k = 0; k < 8; ++k) {
+                const double wl = std::exp(0.5 * (c.a + c.b) + 0.5 * (c.b - c.a) * g.t[k]);
+                const double f = spectrum.f_lambda_shape(wl) * wl;
+                den += 0.5 * (c.b - c.a) * g.w[k] * f;
+                sum += c.w[k] * f;
+            }
+            continue;
+        }
+        for (const Panel& p : c.panels) {
             if (p.b <= u_lo || p.a >= u_hi) continue;
             const bool whole = p.a >= u_lo && p.b <= u_hi;
             const double a = std::max(p.a, u_lo), b = std::min(p.b, u_hi);

@@ -200,8 +200,9 @@ class WavelengthRuleCurve {
 // rows, `kinks_um`) and at the optics' range, no wider than the wavelength rule's resonance
 // and interference widths there (WavelengthRuleCurve), and are bisected until the degree-7
 // interpolant through a panel's 8 values reproduces Q_abs at both halves' 16 nodes to
-// `relative_tolerance` of the panel's mean |Q_abs| (the halves are kept). See
-// grain_spectral_rule.cpp for the error this leaves in the mean.
+// `relative_tolerance` of the panel's mean |Q_abs| (the halves are kept). A cell inside the
+// band then costs 8 spectrum values, through product-integration weights as FixedRuleCurve's.
+// See grain_spectral_rule.cpp for the error this leaves in the mean.
 class PlanckNodeRule {
   public:
     // `q_abs(wavelength_um)` is the grain's Q_abs; `optics` gives its index (for the panel
@@ -222,7 +223,15 @@ class PlanckNodeRule {
         double a = 0.0, b = 0.0; // ln(lambda / um)
         std::array<double, 8> q{};
     };
-    const std::vector<Panel>& cell(long j);
+    // A coarse cell [a, b] (clipped to the optics' range), its panels, and int Q_abs L_k du
+    // over it for the Lagrange basis L_k of the cell's own 8 Gauss nodes (product-integration
+    // weights: a cell inside the band costs 8 spectrum values).
+    struct Cell {
+        double a = 0.0, b = 0.0;
+        std::vector<Panel> panels;
+        std::array<double, 8> w{};
+    };
+    const Cell& cell(long j);
     std::array<double, 8> values(double a, double b);
     void refine(const Panel& p, int depth, std::vector<Panel>& out);
     double initial_width(double a, double b) const;
@@ -234,7 +243,7 @@ class PlanckNodeRule {
     double tolerance_;
     std::vector<double> kinks_u_; // sorted ln(lambda) of the kinks
     double u_min_, u_max_;        // the optics' range (infinite ends for an open range)
-    std::unordered_map<long, std::vector<Panel>> cells_;
+    std::unordered_map<long, Cell> cells_;
     std::size_t evaluations_ = 0;
 };
 

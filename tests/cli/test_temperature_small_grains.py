@@ -28,17 +28,18 @@ for extra in (["--distances", "1000au"], ["--distances", "100au..3000au", "--poi
     checks.check(res.get("balance_residual_max") is not None and res["balance_residual_max"] < 1e-8,
                  f"{' '.join(argv)}: balance residual below 1e-8: {res.get('balance_residual_max')}")
 
+# T_eff of the Sun: IAU 2015 B3 nominal 5772 K.
 # The Rayleigh-limit law for a grain with Q_abs proportional to x both in starlight and in its
 # own band: T / T_bb = (T_eff / T_bb)^(1/5) (analytic for Q_abs ~ 1/lambda with a constant
 # index, Bohren & Huffman 1983 eq. 5.9, as tests/grain_optics_test.cpp checks at 0.003 um).
-# At 0.001 um the starlight side has x <= 0.03, so the law holds to ~1e-3 (O(x^2) terms);
-# tolerance 3e-3.
+# At 0.001 um the starlight side has x <= 0.03, so the law holds to O(x^2) ~ 1e-3 at most
+# (measured: 2.9e-5); tolerance 3e-4, ten times the measured deviation.
 out = checks.json_of(["temperature", "--grain-radius", "0.001um", "--distances", "1000au"])
 rows = out.get("rows", [])
 checks.check(len(rows) == 1, f"0.001 um at 1000 au: one row, got {len(rows)}")
 if rows:
     t_bb = rows[0]["blackbody_temperature_K"]
-    checks.near(rows[0]["temperature_K"] / t_bb, (5772.0 / t_bb) ** 0.2, 3e-3,
+    checks.near(rows[0]["temperature_K"] / t_bb, (5772.0 / t_bb) ** 0.2, 3e-4,
                 "0.001 um silicate at 1000 au: T / T_bb = (T_eff / T_bb)^(1/5)")
 
 checks.close()

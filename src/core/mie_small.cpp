@@ -5,7 +5,8 @@
 //  - C. F. Bohren & D. R. Huffman (1983), "Absorption and Scattering of Light by Small
 //    Particles", Wiley (BH), sec. 5.2: Q_abs = 4 x Im K, Q_sca = (8/3) x^4 |K|^2,
 //    K = (m^2 - 1)/(m^2 + 2) (eqs. 5.7-5.9), with the next term of the expansion in x for
-//    Q_abs (eq. 5.11); sec. 5.4, eq. 5.36: the polarizability of a coated sphere.
+//    Q_abs (eq. 5.11); sec. 5.4, eq. 5.36: the polarizability of a coated sphere (equation
+//    numbers recalled from memory; every formula here is checked against the series).
 //
 // Why more than the leading terms. 4 x Im K is all of Q_abs to O(x^2) for a dielectric, but
 // for a metal (|m| ~ 100-1000, within MieRange) Im K ~ 3 Im(m^2)/|m|^4 is so small that the

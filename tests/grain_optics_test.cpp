@@ -319,8 +319,9 @@ TEST_CASE("Mie grain temperatures: Rayleigh limit, blackbody limit, energy balan
         const double s_tiny = 0.003;
         const GrainTemperatureModel tiny(sun_star.luminosity, sun_star.radius, q_star.mean(s_tiny),
                                          planck_qabs_mean(silicate, s_tiny));
-        // Through the curve from 1 au: a cold start at 30 au would first try the blackbody
-        // 51 K, whose Planck band reaches size parameters below the Mie series' 1e-6.
+        // Through the curve from 1 au (a cold start at 30 au first tries the blackbody 51 K,
+        // whose Planck band reaches size parameters below the Mie series' 1e-6: the
+        // small-particle limit there, tests/mie_small_test.cpp).
         const std::vector<Length> path{astronomical_units(1.0), r};
         const double t_tiny = tiny.temperatures(path).back().value();
         REQUIRE(std::isfinite(t_tiny));

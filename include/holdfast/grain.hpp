@@ -161,7 +161,11 @@ std::optional<Length> sublimation_distance(Power luminosity, Length star_radius,
 
 // A solved temperature and the relative energy-balance residual there,
 // (emitted - absorbed) / absorbed = T^4 <Q_abs>_T / A(r) - 1, from the Planck mean the root
-// search evaluated at exactly that temperature.
+// search evaluated at exactly that temperature. The residual measures how well the root search
+// balanced the two sides as the given PlanckMean computes them; it does not include that
+// PlanckMean's own quadrature error (for planck_qabs_mean: within the spectral tolerance),
+// which moves T by d ln T = -d ln<Q>_T / (4 + d ln<Q>_T / d ln T), a third to a sixth of it
+// for the slopes of grains (between about -1 and 2).
 struct TemperatureSolution {
     Temperature temperature;
     double balance_residual = 0.0;
@@ -284,7 +288,13 @@ SpectralEfficiency starlight_qabs_mean(const GrainOptics& optics,
                                        const GrainEfficiencySettings& settings = {});
 
 // Planck mean of Q_abs for a grain of radius `radius_um` as a function of its temperature
-// (a Planck spectrum at that temperature, with the same out-of-band choice).
+// (a Planck spectrum at that temperature, with the same out-of-band choice). The callable
+// keeps Q_abs where it computed it: a constant index on the fixed rule's panels in x
+// (FixedRuleCurve), any other grain (tabulated indices; tolerances below 1e-7) on nodes fixed
+// in ln(lambda), built once per grain as temperatures ask for new bands, so each further
+// temperature costs Planck values only (PlanckNodeRule in grain_spectral_rule.hpp; within the
+// spectral tolerance of the adaptive quadrature, tests/planck_mean_test.cpp). Below the Mie
+// series' x = 1e-6 Q_abs is the small-particle limit (mie_small_sphere).
 PlanckMean planck_qabs_mean(const GrainOptics& optics, double radius_um,
                             const GrainEfficiencySettings& settings = {});
 

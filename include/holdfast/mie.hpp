@@ -86,8 +86,26 @@ MieEfficiencies mie_perfect_conductor(double x);
 MieEfficiencies mie_geometric_optics(std::complex<double> m, double x);
 
 // The exact series up to MieRange::x_max_series and |m| x <= MieRange::mx_max_series, the
-// geometric-optics approximation beyond either (up to x_max_geometric). `used_series` (if
-// given) tells which one ran.
+// geometric-optics approximation beyond either (up to x_max_geometric), and the small-particle
+// limit (mie_small_sphere) for 0 < x < x_min. `used_series` (if given) tells whether the
+// series ran.
 MieEfficiencies mie_sphere_any_size(std::complex<double> m, double x, bool* used_series = nullptr);
+
+// Small-particle (Rayleigh) limit for 0 < x < MieRange::x_min, where the series is not used
+// (Bohren & Huffman 1983, sec. 5.2): Q_abs = 4 x Im K with its next term in x (eq. 5.11),
+// Q_sca = (8/3) x^4 |K|^2, K = (m^2 - 1)/(m^2 + 2), g = 0, Q_pr = Q_ext. Relative corrections
+// are O(x^2) ~ 1e-12 (with the x^2 term, O((|m| x)^4) for metals); at x = 1e-6 it agrees with
+// the series to 1e-9 (tests/mie_small_test.cpp). Same index range as mie_sphere; InputError
+// for x outside (0, x_min] (x_min itself is taken, for comparisons with the series).
+MieEfficiencies mie_small_sphere(std::complex<double> m, double x);
+// The coated sphere's limit from its polarizability (Bohren & Huffman 1983, eq. 5.36), leading
+// order (see mie_small.cpp for what that leaves out for metal components). 0 <= x_core <=
+// x_outer <= x_min.
+MieEfficiencies mie_small_coated_sphere(std::complex<double> m_core, std::complex<double> m_mantle,
+                                        double x_core, double x_outer);
+// mie_coated_sphere, or mie_small_coated_sphere for x_outer below x_min.
+MieEfficiencies mie_coated_sphere_any_size(std::complex<double> m_core,
+                                           std::complex<double> m_mantle, double x_core,
+                                           double x_outer);
 
 } // namespace holdfast

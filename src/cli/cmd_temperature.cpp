@@ -191,8 +191,8 @@ Report run_temperature(const TemperatureOptions& o) {
         try {
             t = model.solve(distances);
         } catch (const InputError& e) {
-            // E.g. a very small grain far out: its Planck band reaches size parameters the Mie
-            // series does not take. Say which radius.
+            // E.g. optical constants that do not cover a far-out grain's Planck band, or an
+            // index outside the Mie series' range there. Say which radius.
             throw InputError(
                 fmt::format("--grain-radius: the grain of radius {:.4g} um: {}", s_um, e.what()));
         }

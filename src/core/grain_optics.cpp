@@ -184,7 +184,7 @@ MieEfficiencies grain_efficiencies(const GrainOptics& optics, double radius_um,
     const std::complex<double> m_core = optics.core->index_at_um(wavelength_um);
     if (optics.mantle && optics.core_radius_fraction < 1.0) {
         const std::complex<double> m_mantle = optics.mantle->index_at_um(wavelength_um);
-        return mie_coated_sphere(m_core, m_mantle, x * optics.core_radius_fraction, x);
+        return mie_coated_sphere_any_size(m_core, m_mantle, x * optics.core_radius_fraction, x);
     }
     const double x_c = edge_fit_start(m_core, settings.large_sphere_from_x);
     if (x_c == 0.0 || x <= x_c) return mie_sphere_any_size(m_core, x);
@@ -199,8 +199,10 @@ namespace {
 // including the nearly transparent ones on which the adaptive quadrature chases resonance
 // spikes for minutes. Indices that vary with wavelength (tabulated optical constants) use its
 // companion rule in ln(lambda) (WavelengthRuleCurve). Tolerances tighter than they are built
-// for (below 1e-7) keep the adaptive quadrature with the large-sphere shortcut of this file,
-// which is also what the accuracy tests use as their reference.
+// for (below 1e-7) keep the adaptive quadrature with the large-sphere shortcut of this file
+// for starlight means, which is also what the accuracy tests use as their reference; Planck
+// means there, and of every index that varies with wavelength, take PlanckNodeRule (Q_abs on
+// nodes fixed per grain, see planck_qabs_mean).
 bool use_fixed_rule(const GrainEfficiencySettings& settings) {
     return settings.spectral.relative_tolerance >= detail::fixed_rule_tightest_tolerance;
 }
@@ -281,14 +283,23 @@ PlanckMean planck_qabs_mean(const GrainOptics& optics, double radius_um,
     const bool fixed = use_fixed_rule(settings);
     const detail::FixedRuleDensity density =
         detail::fixed_rule_density(settings.spectral.relative_tolerance);
-    auto cache = std::make_shared<EdgeFitCache>();
+    // The optics the node rule evaluates Q_abs of: wrapped once for hold_end_values (the same
+    // function of wavelength as the wrapper plan() makes at each temperature), so its values
+    // serve every band.
+    GrainOptics node_optics = optics;
+    if (settings.out_of_band == OutOfBand::hold_end_values) {
+        node_optics.core = with_held_end_values(optics.core);
+        if (optics.mantle) node_optics.mantle = with_held_end_values(optics.mantle);
+    }
     // One SmoothedGrainQ and one FixedRuleCurve for every temperature while the optics and
     // the lattice stay the same: the panels are fixed in x, so a constant index meets the same
-    // size parameters at every temperature.
+    // size parameters at every temperature. Other grains (tabulated indices; tolerances below
+    // 1e-7) take Q_abs at nodes fixed in ln(lambda), computed once (PlanckNodeRule).
     std::shared_ptr<detail::SmoothedGrainQ> q;
     std::shared_ptr<detail::FixedRuleCurve> curve;
-    return [optics, radius_um, settings, fixed, density, cache, q,
-            curve](double temperature_K) mutable {
+    std::shared_ptr<detail::PlanckNodeRule> nodes;
+    return [optics, node_optics, radius_um, settings, fixed, density, q, curve,
+            nodes](double temperature_K) mutable {
         const std::shared_ptr<const Spectrum> planck = planck_spectrum(kelvin(temperature_K));
         const Plan p = plan(optics, *planck, settings);
         if (fixed) {
@@ -305,12 +316,19 @@ PlanckMean planck_qabs_mean(const GrainOptics& optics, double radius_um,
                     .q_abs;
             }
         }
-        const std::function<double(double)> qf = [&](double wavelength_um) {
-            return cache
-                ->efficiencies(p.optics, radius_um, wavelength_um, settings.large_sphere_from_x)
-                .q_abs;
-        };
-        return spectral_mean(qf, *planck, p.band, settings.spectral);
+        if (!nodes) {
+            auto cache = std::make_shared<EdgeFitCache>();
+            const GrainOptics o = node_optics;
+            const double x_large = settings.large_sphere_from_x;
+            const double s_um = radius_um;
+            nodes = std::make_shared<detail::PlanckNodeRule>(
+                node_optics, radius_um,
+                [cache, o, x_large, s_um](double wavelength_um) {
+                    return cache->efficiencies(o, s_um, wavelength_um, x_large).q_abs;
+                },
+                density, settings.spectral.relative_tolerance, settings.spectral.breakpoints_um);
+        }
+        return nodes->mean(*planck, p.band);
     };
 }
 

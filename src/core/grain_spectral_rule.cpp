@@ -435,7 +435,7 @@ SmoothedGrainQ::Value SmoothedGrainQ::coated(std::complex<double> m_core,
         }
         return it->second->at(x);
     }
-    const MieEfficiencies e = mie_coated_sphere(m_core, m_mantle, f * x, x);
+    const MieEfficiencies e = mie_coated_sphere_any_size(m_core, m_mantle, f * x, x);
     return {e.q_pr, e.q_abs};
 }
 
@@ -879,6 +879,253 @@ FixedRuleMeans WavelengthRuleCurve::means(const Spectrum& spectrum, double radiu
     if (!std::isfinite(out.q_pr) || !std::isfinite(out.q_abs))
         throw NumericalError("spectral mean of Q at radius " + num(radius_um) +
                              " um is not a finite number");
+    return out;
+}
+
+// ---- Planck means at many temperatures -----------------------------------------------------
+//
+// A temperature search evaluates <Q_abs>_T at ~5 temperatures per distance, each over its own
+// Planck band. Q_abs(lambda) of the grain is the same at every temperature, so it is computed
+// once on nodes fixed in u = ln(lambda) (PlanckNodeRule) and every mean is a weighted sum.
+// The panels: cells [j h, (j + 1) h] of the coarse lattice, clipped to the optics' range and
+// cut at kinks (table rows), each split into seed panels no wider than twice the wavelength
+// rule's width for resonances and interference at the cell's largest x (see
+// WavelengthRuleCurve::means). Each seed is then checked by bisection: its 8-point interpolant must
+// reproduce Q_abs at the 16 nodes of its two halves to within tol * (its mean |Q_abs|), or each
+// half is checked in turn (at most 24 levels deep); the halves that pass are kept, so the kept
+// nodes are finer than what the test accepted. A cell wholly inside a band is summed as sum_k w_k
+// F(u_k) over its own 8 Gauss nodes u_k, w_k = int Q_abs L_k du from the panels (product
+// integration, as FixedRuleCurve does with the spectrum interpolated through the coarse nodes), so
+// a mean costs 8 Planck values per cell however fine the panels. Error: the Planck weight is smooth
+// on a cell (h = 0.03125 at tolerance 1e-6; across one at the band's short end, where hc / lambda
+// kT ~ 30, e^{-hc/lambda kT} changes by a factor e^{~1}, so its degree-7 interpolant is good to
+// ~1e-7 there and far better elsewhere), and Q_abs's interpolants are good to tol relative to
+// <|Q_abs|> (an upper bound: the kept halves are more accurate than the panel that passed).
+// tests/planck_mean_test.cpp measures the whole against the adaptive quadrature at 1e-10. Panels of
+// a cell cut by a band's end use 8 fresh nodes on the part inside, with Q_abs from the panel's
+// interpolant, so the band ends are exact (no snapping).
+
+namespace {
+
+// Barycentric weights of the 8 Gauss-Legendre nodes (Berrut & Trefethen 2004, SIAM Rev. 46,
+// 501, eq. 3.2).
+std::array<double, 8> make_barycentric_weights() {
+    const GaussRule& g = gauss8();
+    std::array<double, 8> w{};
+    for (std::size_t i = 0; i < 8; ++i) {
+        double p = 1.0;
+        for (std::size_t k = 0; k < 8; ++k)
+            if (k != i) p *= g.t[i] - g.t[k];
+        w[i] = 1.0 / p;
+    }
+    return w;
+}
+
+const std::array<double, 8>& barycentric_weights() {
+    static const std::array<double, 8> w = make_barycentric_weights(); // read-only once built
+    return w;
+}
+
+// The degree-7 interpolant through values q at the Gauss nodes, at t in [-1, 1].
+double interpolate(const std::array<double, 8>& q, double t) {
+    const GaussRule& g = gauss8();
+    const std::array<double, 8>& bw = barycentric_weights();
+    double num = 0.0, den = 0.0;
+    for (std::size_t i = 0; i < 8; ++i) {
+        const double d = t - g.t[i];
+        if (d == 0.0) return q[i];
+        num += bw[i] * q[i] / d;
+        den += bw[i] / d;
+    }
+    return num / den;
+}
+
+constexpr int planck_max_depth = 24;
+
+} // namespace
+
+PlanckNodeRule::PlanckNodeRule(const GrainOptics& optics, double radius_um,
+                               std::function<double(double)> q_abs, FixedRuleDensity density,
+                               double relative_tolerance, const std::vector<double>& kinks_um)
+    : optics_(optics), radius_um_(radius_um), q_abs_(std::move(q_abs)), density_(density),
+      tolerance_(relative_tolerance) {
+    check_grain_optics(optics_);
+    if (!q_abs_) throw InternalError("PlanckNodeRule: no Q_abs");
+    if (!(radius_um > 0.0) || !std::isfinite(radius_um))
+        throw InputError("the grain radius must be positive, got " + num(radius_um) + " um");
+    double lo = optics_.core->min_wavelength_um(), hi = optics_.core->max_wavelength_um();
+    std::vector<double> kinks = kinks_um;
+    for (double wl : optics_.core->breakpoints_um())
+        kinks.push_back(wl);
+    if (coated_grain(optics_)) {
+        lo = std::max(lo, optics_.mantle->min_wavelength_um());
+        hi = std::min(hi, optics_.mantle->max_wavelength_um());
+        for (double wl : optics_.mantle->breakpoints_um())
+            kinks.push_back(wl);
+    }
+    u_min_ = lo > 0.0 ? std::log(lo) : -std::numeric_limits<double>::infinity();
+    u_max_ = std::isfinite(hi) ? std::log(hi) : std::numeric_limits<double>::infinity();
+    for (double wl : kinks)
+        if (wl > 0.0 && std::isfinite(wl)) kinks_u_.push_back(std::log(wl));
+    std::sort(kinks_u_.begin(), kinks_u_.end());
+}
+
+double PlanckNodeRule::initial_width(double a, double b) const {
+    // As WavelengthRuleCurve::means: coarse below x = 2, else resonance panels 12 k wide and
+    // at most half an interference period, from the index at both ends of the piece.
+    const double h = density_.coarse_ln_width;
+    const double x_hi = 2.0 * pi * radius_um_ / std::exp(a);
+    const double x_lo = 2.0 * pi * radius_um_ / std::exp(b);
+    if (!(x_hi > ripple_from_x)) return h;
+    double nu = 0.1, k_min = std::numeric_limits<double>::infinity();
+    for (double u : {a, b}) {
+        // The ends' own wavelengths may fall a rounding error outside a table: step inside.
+        const double wl = std::exp(std::clamp(u, a + 1e-12 * (b - a), b - 1e-12 * (b - a)));
+        const std::complex<double> m = optics_.core->index_at_um(wl);
+        nu = std::max(nu, rate(m));
+        k_min = std::min(k_min, m.imag());
+        if (coated_grain(optics_)) {
+            const std::complex<double> mm = optics_.mantle->index_at_um(wl);
+            nu = std::max(nu, rate(mm));
+            k_min = std::min(k_min, mm.imag());
+        }
+    }
+    const double ripple = ripple_width(k_min, density_);
+    return k_min * x_lo >= damped_kx
+               ? ripple
+               : std::min(ripple, density_.periods_per_panel * pi / (nu * x_hi));
+}
+
+std::array<double, 8> PlanckNodeRule::values(double a, double b) {
+    const GaussRule& g = gauss8();
+    std::array<double, 8> q{};
+    for (std::size_t i = 0; i < 8; ++i) {
+        const double wl = std::exp(0.5 * (a + b) + 0.5 * (b - a) * g.t[i]);
+        q[i] = q_abs_(wl);
+        if (!std::isfinite(q[i]))
+            throw NumericalError("Planck mean: Q_abs(" + num(wl) + " um) = " + num(q[i]) +
+                                 " is not a finite number");
+    }
+    evaluations_ += 8;
+    return q;
+}
+
+void PlanckNodeRule::refine(const Panel& p, int depth, std::vector<Panel>& out) {
+    const GaussRule& g = gauss8();
+    const double m = 0.5 * (p.a + p.b);
+    const Panel left{p.a, m, values(p.a, m)}, right{m, p.b, values(m, p.b)};
+    double scale = 0.0, worst = 0.0;
+    for (std::size_t i = 0; i < 8; ++i) {
+        scale += 0.5 * g.w[i] * std::abs(p.q[i]);
+        // Node i of each half in the panel's own coordinate t in [-1, 1].
+        worst = std::max(worst, std::abs(interpolate(p.q, 0.5 * (g.t[i] - 1.0)) - left.q[i]));
+        worst = std::max(worst, std::abs(interpolate(p.q, 0.5 * (g.t[i] + 1.0)) - right.q[i]));
+    }
+    if (worst <= tolerance_ * scale || depth >= planck_max_depth) {
+        out.push_back(left);
+        out.push_back(right);
+        return;
+    }
+    refine(left, depth + 1, out);
+    refine(right, depth + 1, out);
+}
+
+const PlanckNodeRule::Cell& PlanckNodeRule::cell(long j) {
+    if (auto it = cells_.find(j); it != cells_.end()) return it->second;
+    const double h = density_.coarse_ln_width;
+    Cell c;
+    c.a = std::max(h * static_cast<double>(j), u_min_);
+    c.b = std::min(h * static_cast<double>(j + 1), u_max_);
+    if (c.b > c.a) {
+        std::vector<double> cuts{c.a};
+        for (auto it = std::upper_bound(kinks_u_.begin(), kinks_u_.end(), c.a);
+             it != kinks_u_.end() && *it < c.b; ++it)
+            if (*it - cuts.back() > 1e-12) cuts.push_back(*it);
+        if (c.b - cuts.back() <= 1e-12 && cuts.size() > 1) cuts.pop_back();
+        cuts.push_back(c.b);
+        for (std::size_t k = 0; k + 1 < cuts.size(); ++k) {
+            const double pa = cuts[k], pb = cuts[k + 1];
+            // Seeds twice the wavelength rule's width: each is checked against its halves,
+            // which are kept, so the nodes are at least as dense as that rule's everywhere.
+            const int n = std::max(
+                1, static_cast<int>(std::ceil((pb - pa) / (2.0 * initial_width(pa, pb)) - 1e-9)));
+            const double step = (pb - pa) / n;
+            for (int i = 0; i < n; ++i) {
+                const double qa = pa + step * i, qb = i + 1 == n ? pb : qa + step;
+                refine(Panel{qa, qb, values(qa, qb)}, 0, c.panels);
+            }
+        }
+        // Product-integration weights w_k = int Q_abs L_k du, by every panel's own rule.
+        const GaussRule& g = gauss8();
+        const std::array<double, 8>& bw = barycentric_weights();
+        for (const Panel& p : c.panels) {
+            for (std::size_t i = 0; i < 8; ++i) {
+                const double u = 0.5 * (p.a + p.b) + 0.5 * (p.b - p.a) * g.t[i];
+                const double t = (2.0 * u - c.a - c.b) / (c.b - c.a);
+                const double wq = 0.5 * (p.b - p.a) * g.w[i] * p.q[i];
+                std::array<double, 8> l{};
+                double total = 0.0;
+                std::size_t exact = 8;
+                for (std::size_t k = 0; k < 8; ++k) {
+                    const double d = t - g.t[k];
+                    if (d == 0.0) exact = k;
+                    l[k] = d == 0.0 ? 0.0 : bw[k] / d;
+                    total += l[k];
+                }
+                for (std::size_t k = 0; k < 8; ++k)
+                    c.w[k] += wq * (exact < 8 ? (k == exact ? 1.0 : 0.0) : l[k] / total);
+            }
+        }
+    }
+    return cells_.emplace(j, std::move(c)).first->second;
+}
+
+double PlanckNodeRule::mean(const Spectrum& spectrum, const WavelengthBand& band) {
+    if (!(band.low_um > 0.0 && std::isfinite(band.high_um) && band.high_um > band.low_um))
+        throw InputError("spectral mean: band " + num(band.low_um) + " - " + num(band.high_um) +
+                         " um is not a finite range 0 < low < high");
+    const GaussRule& g = gauss8();
+    const double h = density_.coarse_ln_width;
+    const double u_lo = std::log(band.low_um), u_hi = std::log(band.high_um);
+    if (u_lo < u_min_ - 1e-12 || u_hi > u_max_ + 1e-12)
+        throw InternalError("PlanckNodeRule: the band reaches beyond the optical constants");
+    double den = 0.0, sum = 0.0;
+    const long j0 = static_cast<long>(std::floor(u_lo / h));
+    const long j1 = static_cast<long>(std::floor(u_hi / h));
+    for (long j = j0; j <= j1; ++j) {
+        const Cell& c = cell(j);
+        if (!(c.b > c.a) || c.b <= u_lo || c.a >= u_hi) continue;
+        if (c.a >= u_lo && c.b <= u_hi) {
+            // The spectrum interpolated through the cell's 8 nodes (smooth on it: see above).
+            for (std::size_t k = 0; k < 8; ++k) {
+                const double wl = std::exp(0.5 * (c.a + c.b) + 0.5 * (c.b - c.a) * g.t[k]);
+                const double f = spectrum.f_lambda_shape(wl) * wl;
+                den += 0.5 * (c.b - c.a) * g.w[k] * f;
+                sum += c.w[k] * f;
+            }
+            continue;
+        }
+        for (const Panel& p : c.panels) {
+            if (p.b <= u_lo || p.a >= u_hi) continue;
+            const bool whole = p.a >= u_lo && p.b <= u_hi;
+            const double a = std::max(p.a, u_lo), b = std::min(p.b, u_hi);
+            for (std::size_t i = 0; i < 8; ++i) {
+                const double u = 0.5 * (a + b) + 0.5 * (b - a) * g.t[i];
+                const double wl = std::exp(u);
+                const double w = 0.5 * (b - a) * g.w[i] * spectrum.f_lambda_shape(wl) * wl;
+                // Q at the panel's node, or from its interpolant at a fresh node.
+                const double q =
+                    whole ? p.q[i] : interpolate(p.q, (2.0 * u - p.a - p.b) / (p.b - p.a));
+                den += w;
+                sum += w * q;
+            }
+        }
+    }
+    if (!(den > 0.0))
+        throw NumericalError("spectral mean: '" + spectrum.describe() + "' has no flux between " +
+                             num(band.low_um) + " and " + num(band.high_um) + " um");
+    const double out = sum / den;
+    if (!std::isfinite(out)) throw NumericalError("Planck mean of Q_abs is not a finite number");
     return out;
 }
 

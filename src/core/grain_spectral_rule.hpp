@@ -5,6 +5,7 @@
 #include <array>
 #include <complex>
 #include <cstddef>
+#include <functional>
 #include <memory>
 #include <optional>
 #include <unordered_map>
@@ -188,6 +189,61 @@ class WavelengthRuleCurve {
     double geometric_step_ = 0.0625, rest_step_ = 0.25;
     using Column = std::unordered_map<long, SmoothedGrainQ::Value>;
     std::unordered_map<long, Column> geometric_, rest_;
+    std::size_t evaluations_ = 0;
+};
+
+// Planck means <Q_abs>_T of one grain at many temperatures (planck_qabs_mean for indices the
+// constant-index FixedRuleCurve does not take). Q_abs(lambda) does not depend on T, so it is
+// evaluated once per grain on fixed composite 8-point Gauss-Legendre panels in u = ln(lambda),
+// built lazily over the bands that temperatures ask for, and each mean is a weighted sum of
+// Planck values at the nodes. Panels start at the coarse lattice j h, cut at kinks (table
+// rows, `kinks_um`) and at the optics' range, no wider than the wavelength rule's resonance
+// and interference widths there (WavelengthRuleCurve), and are bisected until the degree-7
+// interpolant through a panel's 8 values reproduces Q_abs at both halves' 16 nodes to
+// `relative_tolerance` of the panel's mean |Q_abs| (the halves are kept). A cell inside the
+// band then costs 8 spectrum values, through product-integration weights as FixedRuleCurve's.
+// See grain_spectral_rule.cpp for the error this leaves in the mean.
+class PlanckNodeRule {
+  public:
+    // `q_abs(wavelength_um)` is the grain's Q_abs; `optics` gives its index (for the panel
+    // widths), kinks and wavelength range.
+    PlanckNodeRule(const GrainOptics& optics, double radius_um,
+                   std::function<double(double wavelength_um)> q_abs, FixedRuleDensity density,
+                   double relative_tolerance, const std::vector<double>& kinks_um);
+
+    // <Q_abs> over `band` (inside the optics' range) weighted by `spectrum`. Panels cut by the
+    // band's ends are integrated on 8 fresh nodes with Q_abs from the panel's interpolant.
+    double mean(const Spectrum& spectrum, const WavelengthBand& band);
+
+    // Q_abs evaluations so far (for tests and benchmarks).
+    std::size_t evaluations() const { return evaluations_; }
+
+  private:
+    struct Panel {
+        double a = 0.0, b = 0.0; // ln(lambda / um)
+        std::array<double, 8> q{};
+    };
+    // A coarse cell [a, b] (clipped to the optics' range), its panels, and int Q_abs L_k du
+    // over it for the Lagrange basis L_k of the cell's own 8 Gauss nodes (product-integration
+    // weights: a cell inside the band costs 8 spectrum values).
+    struct Cell {
+        double a = 0.0, b = 0.0;
+        std::vector<Panel> panels;
+        std::array<double, 8> w{};
+    };
+    const Cell& cell(long j);
+    std::array<double, 8> values(double a, double b);
+    void refine(const Panel& p, int depth, std::vector<Panel>& out);
+    double initial_width(double a, double b) const;
+
+    GrainOptics optics_;
+    double radius_um_;
+    std::function<double(double)> q_abs_;
+    FixedRuleDensity density_;
+    double tolerance_;
+    std::vector<double> kinks_u_; // sorted ln(lambda) of the kinks
+    double u_min_, u_max_;        // the optics' range (infinite ends for an open range)
+    std::unordered_map<long, Cell> cells_;
     std::size_t evaluations_ = 0;
 };
 

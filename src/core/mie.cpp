@@ -930,6 +930,10 @@ MieEfficiencies mie_sphere_any_size(std::complex<double> m, double x, bool* used
     static_assert(MieRange::mx_max_series / 1415.0 >= MieRange::x_min_geometric &&
                   MieRange::n_max * MieRange::n_max + MieRange::k_max * MieRange::k_max <=
                       1415.0 * 1415.0);
+    if (x > 0.0 && x < MieRange::x_min) {
+        if (used_series) *used_series = false;
+        return mie_small_sphere(m, x);
+    }
     const bool series = x <= MieRange::x_max_series && detail::within_mx_cap(m, x);
     if (used_series) *used_series = series;
     return series ? mie_sphere(m, x) : mie_geometric_optics(m, x);

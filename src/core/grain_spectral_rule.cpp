@@ -51,10 +51,10 @@
 // three sizes per decade, interpolated (cubic in ln x). Either way a curve no longer sums
 // the series at every node up to the largest x.
 //
-// Accuracy (README "Spectral means", tests/grain_optics_test.cpp): against the adaptive quadrature at
-// tolerance 1e-8 with the exact series at every size, or against this rule with panels a
-// quarter as wide and the exact series at every size, <Q_pr> is within 4e-5 relative and
-// <Q_abs> within 6e-5 for the shipped materials, porous ice-like and ice-coated grains.
+// Accuracy (README "Spectral means", tests/grain_optics_test.cpp): against the adaptive quadrature
+// at tolerance 1e-8 with the exact series at every size, or against this rule with panels a quarter
+// as wide and the exact series at every size, <Q_pr> is within 4e-5 relative and <Q_abs> within
+// 6e-5 for the shipped materials, porous ice-like and ice-coated grains.
 #include "grain_spectral_rule.hpp"
 
 #include <algorithm>
@@ -521,6 +521,21 @@ double fine_edge(long j, int k, int n, double h) {
     const double a = h * static_cast<double>(j);
     return k == n ? h * static_cast<double>(j + 1) : a + h * k / n;
 }
+
+// The two rules' common ending: the flux-weighted sums divided by the flux, refused when the
+// band holds no flux or the result is not finite.
+FixedRuleMeans finished_means(double num_pr, double num_abs, double den,
+                              const std::string& spectrum_name, const WavelengthBand& band,
+                              double radius_um) {
+    if (!(den > 0.0))
+        throw NumericalError("spectral mean: " + spectrum_name + " has no flux between " +
+                             num(band.low_um) + " and " + num(band.high_um) + " um");
+    const FixedRuleMeans out{num_pr / den, num_abs / den};
+    if (!std::isfinite(out.q_pr) || !std::isfinite(out.q_abs))
+        throw NumericalError("spectral mean of Q at radius " + num(radius_um) +
+                             " um is not a finite number");
+    return out;
+}
 } // namespace
 
 const FixedRuleCurve::Coarse& FixedRuleCurve::coarse(long j) {
@@ -640,14 +655,7 @@ FixedRuleMeans FixedRuleCurve::means(const Spectrum& spectrum, const WavelengthB
                 if (cuts[p + 1] > cuts[p]) fresh(cuts[p], cuts[p + 1]);
         }
     }
-    if (!(den > 0.0))
-        throw NumericalError("spectral mean: '" + spectrum.describe() + "' has no flux between " +
-                             num(band.low_um) + " and " + num(band.high_um) + " um");
-    const FixedRuleMeans out{num_pr / den, num_abs / den};
-    if (!std::isfinite(out.q_pr) || !std::isfinite(out.q_abs))
-        throw NumericalError("spectral mean of Q at radius " + num(radius_um) +
-                             " um is not a finite number");
-    return out;
+    return finished_means(num_pr, num_abs, den, "'" + spectrum.describe() + "'", band, radius_um);
 }
 
 // ---- indices that vary with wavelength ----------------------------------------------------------
@@ -872,14 +880,7 @@ FixedRuleMeans WavelengthRuleCurve::means(const Spectrum& spectrum, double radiu
             }
         }
     }
-    if (!(den > 0.0))
-        throw NumericalError("spectral mean: the spectrum has no flux between " +
-                             num(band_.low_um) + " and " + num(band_.high_um) + " um");
-    const FixedRuleMeans out{num_pr / den, num_abs / den};
-    if (!std::isfinite(out.q_pr) || !std::isfinite(out.q_abs))
-        throw NumericalError("spectral mean of Q at radius " + num(radius_um) +
-                             " um is not a finite number");
-    return out;
+    return finished_means(num_pr, num_abs, den, "the spectrum", band_, radius_um);
 }
 
 // ---- Planck means at many temperatures -----------------------------------------------------

@@ -14,9 +14,7 @@ using cplx = std::complex<double>;
 
 namespace {
 
-double rel(cplx got, cplx want) {
-    return std::abs(got - want) / std::abs(want);
-}
+double rel(cplx got, cplx want) { return std::abs(got - want) / std::abs(want); }
 
 cplx bruggeman_residual(const std::vector<cplx>& eps, const std::vector<double>& f, cplx e) {
     cplx s(0.0, 0.0);

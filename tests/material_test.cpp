@@ -37,9 +37,7 @@ std::string refusal(const std::string& name, const std::string& text,
     return "(no DataFileError)";
 }
 
-fs::path shared_nk() {
-    return fs::path(HOLDFAST_SHARED_DATA) / "nk";
-}
+fs::path shared_nk() { return fs::path(HOLDFAST_SHARED_DATA) / "nk"; }
 
 } // namespace
 

@@ -1,5 +1,6 @@
 #pragma once
-// Spectrum-weighted mean of an efficiency: <Q> = int Q(lambda) F_lambda dlambda / int F_lambda dlambda.
+// Spectrum-weighted mean of an efficiency: <Q> = int Q(lambda) F_lambda dlambda / int F_lambda
+// dlambda.
 #include <cstddef>
 #include <functional>
 #include <memory>
@@ -12,8 +13,8 @@
 namespace holdfast {
 
 struct SpectralMeanSettings {
-    double relative_tolerance = 1e-6;      // of the GSL adaptive quadrature
-    double excluded_flux_fraction = 1e-6;  // flux left outside the integration band
+    double relative_tolerance = 1e-6;     // of the GSL adaptive quadrature
+    double excluded_flux_fraction = 1e-6; // flux left outside the integration band
     // The band is cut into this many equal pieces in ln(lambda), each integrated on its own
     // (Gauss-Kronrod 21 points first, GSL qag only where that is not yet accurate enough), so
     // a smooth Q costs subintervals * 21 evaluations and a rippled Q is refined where needed.

@@ -34,9 +34,9 @@ using grav_parameter =
     bu::derived_dimension<bu::length_base_dimension, 3, bu::time_base_dimension, -2>::type;
 } // namespace unit_dims
 
-using EnergyFlux = bu::quantity<bu::unit<unit_dims::flux, si::system>>;           // W m^-2
-using MassOpacity = bu::quantity<bu::unit<unit_dims::mass_opacity, si::system>>;  // m^2 kg^-1
-using MassRate = bu::quantity<bu::unit<unit_dims::mass_rate, si::system>>;        // kg s^-1
+using EnergyFlux = bu::quantity<bu::unit<unit_dims::flux, si::system>>;              // W m^-2
+using MassOpacity = bu::quantity<bu::unit<unit_dims::mass_opacity, si::system>>;     // m^2 kg^-1
+using MassRate = bu::quantity<bu::unit<unit_dims::mass_rate, si::system>>;           // kg s^-1
 using GravParameter = bu::quantity<bu::unit<unit_dims::grav_parameter, si::system>>; // m^3 s^-2
 
 // ---- construction from plain numbers in a named unit ---------------------------------------

@@ -48,9 +48,7 @@ struct Given {
     CLI::Option* final_mass = nullptr;
 };
 
-bool given(const CLI::Option* o) {
-    return o != nullptr && o->count() > 0;
-}
+bool given(const CLI::Option* o) { return o != nullptr && o->count() > 0; }
 
 // A plain number with a range; `lo_open`/`hi_open` exclude the ends.
 double number_in_range(const std::string& text, const std::string& option, const char* what,

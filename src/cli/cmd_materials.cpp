@@ -19,9 +19,7 @@ struct MaterialsOptions {
 };
 
 // The first line of a multi-line provenance text.
-std::string first_line(const std::string& text) {
-    return text.substr(0, text.find('\n'));
-}
+std::string first_line(const std::string& text) { return text.substr(0, text.find('\n')); }
 
 Report list_report() {
     Report r;

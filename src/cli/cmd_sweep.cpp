@@ -353,7 +353,8 @@ Command setup_sweep(CLI::App& app) {
         "sweep", "Compute a grid over stars, materials, porosities, parent orbits, distances and "
                  "grain radii from a TOML sweep file, streamed to a CSV with a JSON sidecar");
     auto o = std::make_shared<SweepOptions>();
-    sub->add_option("FILE", o->file, "The sweep file (TOML; see README 'The sweep file')")->required();
+    sub->add_option("FILE", o->file, "The sweep file (TOML; see README 'The sweep file')")
+        ->required();
     sub->add_option("-o,--output", o->output,
                     "The CSV to write (required). Unlike the other subcommands' --output, rows "
                     "stream into it as they are computed, flushed block by block; the sidecar "

@@ -207,8 +207,8 @@ ResolvedMaterial resolve_material(const MaterialOptions& o) {
         require_file("--nk", o.nk);
         std::vector<std::string> nk_notes;
         try {
-            NkTable table = read_nk_file(
-                o.nk, o.clip_negative_k ? NegativeK::clip_to_zero : NegativeK::refuse);
+            NkTable table =
+                read_nk_file(o.nk, o.clip_negative_k ? NegativeK::clip_to_zero : NegativeK::refuse);
             nk_notes = table.notes; // e.g. how many k < 0 rows were clipped
             core.optics = tabulated_index(std::move(table));
         } catch (const InputError& e) {
@@ -216,7 +216,8 @@ ResolvedMaterial resolve_material(const MaterialOptions& o) {
         }
         core.name = "optical constants from " + o.nk;
         core.limits = "optical constants interpolated from " + o.nk;
-        for (const auto& note : nk_notes) core.limits += "; " + note;
+        for (const auto& note : nk_notes)
+            core.limits += "; " + note;
     } else {
         core = shipped(o.material.empty() ? "silicate" : o.material, "--material");
     }

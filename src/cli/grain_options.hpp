@@ -39,9 +39,9 @@ ResolvedStar resolve_star(const StarOptions& o);
 
 // ---- grain material -----------------------------------------------------------------------
 struct MaterialOptions {
-    std::string material; // --material NAME (default "silicate")
-    std::string index;    // --index 1.7+0.03i
-    std::string nk;       // --nk FILE
+    std::string material;         // --material NAME (default "silicate")
+    std::string index;            // --index 1.7+0.03i
+    std::string nk;               // --nk FILE
     bool clip_negative_k = false; // --clip-negative-k
     std::string out_of_band = "refuse";
     Words density; // --density

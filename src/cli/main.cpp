@@ -40,7 +40,6 @@ int main(int argc, char** argv) {
     commands.push_back(cli::setup_temperature(app));
     commands.push_back(cli::setup_sweep(app));
 
-
     try {
         app.parse(argc, argv);
     } catch (const CLI::CallForHelp& e) {

@@ -27,7 +27,8 @@ void check_finite(const Cell& c, const std::string& key) {
 
 std::string join(const std::vector<double>& v, const char* sep, std::string (*fmt)(double)) {
     std::string out;
-    for (std::size_t i = 0; i < v.size(); ++i) out += (i ? sep : "") + fmt(v[i]);
+    for (std::size_t i = 0; i < v.size(); ++i)
+        out += (i ? sep : "") + fmt(v[i]);
     return out;
 }
 
@@ -70,7 +71,8 @@ nlohmann::json json_cell(const Cell& c) {
 void table_section(std::string& out, const char* title, const std::vector<Entry>& entries) {
     if (entries.empty()) return;
     std::size_t width = 0;
-    for (const auto& e : entries) width = std::max(width, e.label.size());
+    for (const auto& e : entries)
+        width = std::max(width, e.label.size());
     out += fmt::format("{}\n", title);
     for (const auto& e : entries) {
         std::string line;
@@ -94,7 +96,8 @@ std::string render_table(const Report& r) {
         const Grid& g = *r.grid;
         std::vector<std::size_t> w(g.columns.size());
         std::vector<std::vector<std::string>> text(g.rows.size());
-        for (std::size_t j = 0; j < g.columns.size(); ++j) w[j] = g.columns[j].label.size();
+        for (std::size_t j = 0; j < g.columns.size(); ++j)
+            w[j] = g.columns[j].label.size();
         for (std::size_t i = 0; i < g.rows.size(); ++i)
             for (std::size_t j = 0; j < g.rows[i].size(); ++j) {
                 text[i].push_back(table_cell(g.rows[i][j]));
@@ -110,11 +113,13 @@ std::string render_table(const Report& r) {
     }
     if (!r.assumptions.empty()) {
         out += "\nassumptions and limits\n";
-        for (const auto& a : r.assumptions) out += "  - " + a + "\n";
+        for (const auto& a : r.assumptions)
+            out += "  - " + a + "\n";
     }
     if (!r.warnings.empty()) {
         out += "\nwarnings\n";
-        for (const auto& a : r.warnings) out += "  ! " + a + "\n";
+        for (const auto& a : r.warnings)
+            out += "  ! " + a + "\n";
     }
     return out;
 }
@@ -133,7 +138,8 @@ std::string render_csv(const Report& r) {
     std::vector<const Repr*> all;
     for (const auto* list : {&r.parameters, &r.results})
         for (const auto& e : *list)
-            for (const auto& rep : e.reprs) all.push_back(&rep);
+            for (const auto& rep : e.reprs)
+                all.push_back(&rep);
     for (std::size_t j = 0; j < all.size(); ++j)
         out += all[j]->key + (j + 1 < all.size() ? "," : "\n");
     for (std::size_t j = 0; j < all.size(); ++j)
@@ -149,7 +155,8 @@ std::string render_json(const Report& r) {
     auto section = [](const std::vector<Entry>& entries) {
         nlohmann::ordered_json o = nlohmann::ordered_json::object();
         for (const auto& e : entries)
-            for (const auto& rep : e.reprs) o[rep.key] = json_cell(rep.value);
+            for (const auto& rep : e.reprs)
+                o[rep.key] = json_cell(rep.value);
         return o;
     };
     j["parameters"] = section(r.parameters);
@@ -187,15 +194,19 @@ Entry flag_entry(std::string label, std::string key, bool value) {
 std::string render(const Report& report, Format format) {
     for (const auto* list : {&report.parameters, &report.results})
         for (const auto& e : *list)
-            for (const auto& rep : e.reprs) check_finite(rep.value, rep.key);
+            for (const auto& rep : e.reprs)
+                check_finite(rep.value, rep.key);
     if (report.grid)
         for (const auto& row : report.grid->rows)
             for (std::size_t k = 0; k < row.size(); ++k)
                 check_finite(row[k], report.grid->columns.at(k).key);
     switch (format) {
-    case Format::table: return render_table(report);
-    case Format::csv: return render_csv(report);
-    case Format::json: return render_json(report);
+    case Format::table:
+        return render_table(report);
+    case Format::csv:
+        return render_csv(report);
+    case Format::json:
+        return render_json(report);
     }
     throw InternalError("unknown output format");
 }

@@ -16,7 +16,7 @@ using Cell = std::variant<double, std::string, bool, std::monostate, std::vector
 
 // One value under one machine name, with the unit label the table shows.
 struct Repr {
-    std::string key;  // machine name, e.g. "eddington_luminosity_erg_s"
+    std::string key; // machine name, e.g. "eddington_luminosity_erg_s"
     Cell value;
     std::string unit; // table label, e.g. "erg/s"; empty for dimensionless or text
 };

@@ -71,9 +71,7 @@ cplx bruggeman_slope(const cplx* eps, const double* f, std::size_t n, cplx e) {
 
 } // namespace
 
-std::complex<double> permittivity_from_index(std::complex<double> m) {
-    return m * m;
-}
+std::complex<double> permittivity_from_index(std::complex<double> m) { return m * m; }
 
 std::complex<double> index_from_permittivity(std::complex<double> eps) {
     check_permittivity(eps, "index_from_permittivity");

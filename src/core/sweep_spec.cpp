@@ -1,5 +1,5 @@
-// Sweep files: the TOML schema (README "The sweep file") read into a SweepSpec. Every refusal names the
-// file, the line (toml++ source regions) and the key, then what was read and what is accepted.
+// Sweep files: the TOML schema (README "The sweep file") read into a SweepSpec. Every refusal names
+// the file, the line (toml++ source regions) and the key, then what was read and what is accepted.
 // Quantities are strings with units, parsed by parse.hpp, so the units are those of the
 // command line.
 #include <algorithm>

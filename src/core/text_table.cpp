@@ -50,9 +50,7 @@ std::vector<std::string_view> split_lines(std::string_view text) {
 
 namespace {
 
-bool is_separator(char c) {
-    return c == ' ' || c == '\t' || c == ',' || c == '\v' || c == '\f';
-}
+bool is_separator(char c) { return c == ' ' || c == '\t' || c == ',' || c == '\v' || c == '\f'; }
 
 } // namespace
 

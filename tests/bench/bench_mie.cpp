@@ -23,12 +23,8 @@ void run(benchmark::State& state, std::complex<double> m) {
                            benchmark::Counter::kIsRate | benchmark::Counter::kInvert);
 }
 
-void BM_mie_1p7_0p03i(benchmark::State& state) {
-    run(state, {1.7, 0.03});
-}
-void BM_mie_2p0_0p6i(benchmark::State& state) {
-    run(state, {2.0, 0.6});
-}
+void BM_mie_1p7_0p03i(benchmark::State& state) { run(state, {1.7, 0.03}); }
+void BM_mie_2p0_0p6i(benchmark::State& state) { run(state, {2.0, 0.6}); }
 
 } // namespace
 

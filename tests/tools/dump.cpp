@@ -38,15 +38,16 @@ int main(int argc, char** argv) {
             {"erg_J", erg_J},
             {"cmb_temperature_K", cmb_temperature_K},
         };
-        for (const auto& r : rows) std::printf("%s %.17g\n", r.name, r.value);
+        for (const auto& r : rows)
+            std::printf("%s %.17g\n", r.name, r.value);
         return 0;
     }
     if (mode == "parse") {
         for (int i = 2; i < argc; ++i) {
             try {
                 const auto q = holdfast::parse_quantity_text(argv[i], "--value");
-                std::printf("%.17g %d %d %d %d\n", q.value_si, q.dimension.length,
-                            q.dimension.mass, q.dimension.time, q.dimension.temperature);
+                std::printf("%.17g %d %d %d %d\n", q.value_si, q.dimension.length, q.dimension.mass,
+                            q.dimension.time, q.dimension.temperature);
             } catch (const holdfast::Error& e) {
                 std::printf("error %s\n", e.what());
             }

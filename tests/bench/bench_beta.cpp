@@ -5,6 +5,7 @@
 #include <benchmark/benchmark.h>
 
 #include <cmath>
+#include <memory>
 #include <vector>
 
 #include "holdfast/grain.hpp"
@@ -13,6 +14,20 @@
 #include "holdfast/star.hpp"
 
 namespace {
+
+// The timed part of every case: one <Q_pr> curve over 200 radii from 0.01 um to 1 mm.
+void time_curve(benchmark::State& state, const holdfast::GrainOptics& optics,
+                const std::shared_ptr<const holdfast::Spectrum>& spectrum,
+                const holdfast::GrainEfficiencySettings& settings) {
+    const std::vector<double> radii = holdfast::log_spaced(0.01, 1000.0, 200);
+    for (auto _ : state) {
+        const auto q = holdfast::starlight_qpr_mean(optics, spectrum, settings);
+        double sum = 0.0;
+        for (double s : radii)
+            sum += q.mean(s);
+        benchmark::DoNotOptimize(sum);
+    }
+}
 
 void run(benchmark::State& state, const char* material, double tolerance,
          const char* mantle = nullptr, double core_fraction = 1.0) {
@@ -25,14 +40,7 @@ void run(benchmark::State& state, const char* material, double tolerance,
     }
     holdfast::GrainEfficiencySettings settings;
     settings.spectral.relative_tolerance = tolerance;
-    const std::vector<double> radii = holdfast::log_spaced(0.01, 1000.0, 200);
-    for (auto _ : state) {
-        const auto q = holdfast::starlight_qpr_mean(optics, sun.spectrum, settings);
-        double sum = 0.0;
-        for (double s : radii)
-            sum += q.mean(s);
-        benchmark::DoNotOptimize(sum);
-    }
+    time_curve(state, optics, sun.spectrum, settings);
 }
 
 void BM_beta_curve_silicate_tol1e5(benchmark::State& state) { run(state, "silicate", 1e-5); }
@@ -60,14 +68,7 @@ void BM_beta_curve_tabulated_transparent_tol1e5(benchmark::State& state) {
     optics.core = holdfast::tabulated_index(table);
     holdfast::GrainEfficiencySettings settings;
     settings.out_of_band = holdfast::OutOfBand::limit_band;
-    const std::vector<double> radii = holdfast::log_spaced(0.01, 1000.0, 200);
-    for (auto _ : state) {
-        const auto q = holdfast::starlight_qpr_mean(optics, sun.spectrum, settings);
-        double sum = 0.0;
-        for (double s : radii)
-            sum += q.mean(s);
-        benchmark::DoNotOptimize(sum);
-    }
+    time_curve(state, optics, sun.spectrum, settings);
 }
 
 } // namespace

@@ -14,6 +14,7 @@
 #include "holdfast/spectral_mean.hpp"
 #include "holdfast/star.hpp"
 #include "holdfast/units.hpp"
+#include "synthetic_nk.hpp"
 
 using namespace holdfast;
 
@@ -37,16 +38,7 @@ std::shared_ptr<const OpticalConstants> banded_table() {
 // A nearly transparent ice-like table, 0.1-1e5 um: n 1.31-1.33 with a wiggle at the rows,
 // k from 1e-8 to 1e-3 (log-linear), so Q_abs has narrow resonances where x > 2.
 std::shared_ptr<const OpticalConstants> transparent_table() {
-    NkTable t;
-    t.source = "invented for the test";
-    t.format = "in memory";
-    const std::vector<double> wl = log_spaced(0.1, 1.0e5, 121);
-    for (std::size_t i = 0; i < wl.size(); ++i) {
-        const double f = static_cast<double>(i) / static_cast<double>(wl.size() - 1);
-        const double wiggle = (i % 2 == 0 ? 1.0 : -1.0) * 5e-4;
-        t.rows.push_back({wl[i], 1.31 + 0.02 * f + wiggle, 1e-8 * std::pow(1e5, f)});
-    }
-    return tabulated_index(std::move(t));
+    return tabulated_index(testing::transparent_nk_table(1.0e5, 121, 1e5, "invented for the test"));
 }
 
 // The reference Planck mean: the adaptive quadrature of grain_efficiencies over the Planck

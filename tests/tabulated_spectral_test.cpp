@@ -12,6 +12,7 @@
 #include "holdfast/material.hpp"
 #include "holdfast/parse.hpp"
 #include "holdfast/star.hpp"
+#include "synthetic_nk.hpp"
 
 using namespace holdfast;
 
@@ -21,16 +22,7 @@ double rel(double a, double b) { return std::abs(a - b) / std::abs(b); }
 // A nearly transparent ice-like table over 0.1-100 um: n from 1.31 to 1.33, k from 1e-8 to
 // 1e-4 (log-linear), 91 rows, with a small wiggle in n so the kinks at the rows matter.
 NkTable synthetic_transparent_table() {
-    NkTable t;
-    t.source = "synthetic";
-    t.format = "test";
-    const std::vector<double> wl = log_spaced(0.1, 100.0, 91);
-    for (std::size_t i = 0; i < wl.size(); ++i) {
-        const double f = static_cast<double>(i) / static_cast<double>(wl.size() - 1);
-        const double wiggle = (i % 2 == 0 ? 1.0 : -1.0) * 5e-4;
-        t.rows.push_back({wl[i], 1.31 + 0.02 * f + wiggle, 1e-8 * std::pow(1e4, f)});
-    }
-    return t;
+    return testing::transparent_nk_table(100.0, 91, 1e4, "synthetic");
 }
 
 GrainEfficiencySettings with_tolerance(double tolerance, OutOfBand out_of_band) {

@@ -39,6 +39,8 @@ class BetaModel {
 
     // <Q_pr>(s); throws NumericalError if the efficiency is not finite or negative.
     double qpr_mean_at_um(double radius_um) const;
+    // The check qpr_mean_at_um makes, for a <Q_pr> computed elsewhere (a curve on threads).
+    static void check_qpr_mean(double qpr_mean, double radius_um);
     // beta from an already computed <Q_pr> (saves a second spectral average).
     double beta_from_qpr(double qpr_mean, double radius_um) const;
     double beta_at_um(double radius_um) const;
@@ -273,8 +275,15 @@ MieEfficiencies grain_efficiencies(const GrainOptics& optics, double radius_um,
 // wavelength-independent index the returned callable keeps every Q it computed (the fixed
 // rule's panels are the same for every radius), so a curve of many radii costs little more
 // than its largest one. Accurate to 1e-4 relative at the default tolerance (README).
+// `curve` gives <Q> at many radii on several threads: the numbers `mean` gives, bit for bit,
+// whatever the thread count (each thread works on its own caches; with a constant index the
+// threads share out the panels in x first, and `mean` keeps them for later radii). `mean` and
+// `curve` share state: call them from one thread at a time.
+using MeanEfficiencyCurve =
+    std::function<std::vector<double>(std::span<const double> radii_um, unsigned threads)>;
 struct SpectralEfficiency {
     MeanEfficiency mean;                // radius_um -> <Q>
+    MeanEfficiencyCurve curve;          // radii_um, threads -> <Q> at each radius
     WavelengthBand band;                // where the spectrum is integrated
     double dropped_flux_fraction = 0.0; // flux left out by OutOfBand::limit_band
     std::string note;                   // a sentence for the report, empty if nothing to say

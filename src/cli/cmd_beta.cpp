@@ -17,10 +17,12 @@ struct BetaOptions {
     EfficiencyOptions efficiency;
     RadiiOptions radii;
     OrbitOptions orbit;
+    std::string threads;
     std::string plot;
 };
 
 Report run_beta(const BetaOptions& o) {
+    const unsigned threads = resolve_threads(o.threads);
     if (!o.plot.empty()) check_plot_request(o.plot, "--plot");
     const ReleasePoint release = parse_release_point(o.orbit);
     const std::vector<double> radii = parse_radii_um(o.radii);
@@ -32,7 +34,7 @@ Report run_beta(const BetaOptions& o) {
     const BetaModel model(in.star.star.luminosity, in.star.star.mass, in.material.density,
                           in.qpr_mean);
     const double bc = critical_beta(release);
-    const BetaGrid g = compute_beta_grid(model, radii);
+    const BetaGrid g = compute_beta_grid(model, in, radii, threads);
     const std::function<double(double)> beta_fn = [&](double s) { return model.beta_at_um(s); };
     const BlowoutSearch search = search_beta_curve(beta_fn, g.radii_um, g.beta, bc);
 
@@ -110,6 +112,9 @@ Command setup_beta(CLI::App& app) {
     add_efficiency_options(*sub, o->efficiency, "--qpr",
                            "Use this constant <Q_pr> instead of Mie theory (1: perfect absorber)");
     add_radii_options(*sub, o->radii);
+    add_threads_option(*sub, o->threads,
+                       "The radii's <Q_pr> are shared out between them; the results are the "
+                       "same for any number");
     add_orbit_options(*sub, o->orbit, false);
     sub->add_option("--plot", o->plot,
                     "Also draw log-log beta against radius with the critical line, to FILE.svg or "

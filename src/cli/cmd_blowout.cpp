@@ -18,6 +18,7 @@ struct BlowoutOptions {
     EfficiencyOptions efficiency;
     RadiiOptions radii;
     OrbitOptions orbit;
+    std::string threads;
     Words grain_radius;
 };
 
@@ -79,6 +80,7 @@ std::vector<Repr> orbit_reprs(const ReleasedOrbit& orb, const std::optional<Time
 }
 
 Report run_blowout(const BlowoutOptions& o) {
+    const unsigned threads = resolve_threads(o.threads);
     const ReleasePoint release = parse_release_point(o.orbit);
     const std::optional<Length> distance = parse_release_distance(o.orbit);
     const std::vector<double> radii = parse_radii_um(o.radii);
@@ -93,7 +95,7 @@ Report run_blowout(const BlowoutOptions& o) {
     const Star& star = in.star.star;
     const BetaModel model(star.luminosity, star.mass, in.material.density, in.qpr_mean);
     const double bc = critical_beta(release);
-    const BetaGrid g = compute_beta_grid(model, radii);
+    const BetaGrid g = compute_beta_grid(model, in, radii, threads);
     const std::function<double(double)> beta_fn = [&](double s) { return model.beta_at_um(s); };
     const BlowoutSearch search = search_beta_curve(beta_fn, g.radii_um, g.beta, bc);
 
@@ -202,6 +204,9 @@ Command setup_blowout(CLI::App& app) {
     add_efficiency_options(*sub, o->efficiency, "--qpr",
                            "Use this constant <Q_pr> instead of Mie theory (1: perfect absorber)");
     add_radii_options(*sub, o->radii);
+    add_threads_option(*sub, o->threads,
+                       "The radii's <Q_pr> are shared out between them; the results are the "
+                       "same for any number");
     add_orbit_options(*sub, o->orbit, true);
     add_quantity_option(sub, "--grain-radius", o->grain_radius,
                         "One grain radius to follow, e.g. 2 um: its beta and, with --distance, "

@@ -11,7 +11,6 @@
 #include <filesystem>
 #include <numbers>
 #include <optional>
-#include <thread>
 
 #include <unistd.h>
 
@@ -19,6 +18,7 @@
 #include <nlohmann/json.hpp>
 
 #include "commands.hpp"
+#include "grain_options.hpp"
 #include "holdfast/constants.hpp"
 #include "holdfast/errors.hpp"
 #include "holdfast/sweep.hpp"
@@ -81,7 +81,7 @@ std::string duration_text(double seconds) {
 struct SweepOptions {
     std::string file;
     std::string output;
-    unsigned threads = 0;
+    std::string threads;
     bool resume = false;
     std::string progress = "auto";
 };
@@ -156,18 +156,13 @@ std::string sidecar_path(const std::string& csv) { return csv + ".json"; }
 
 Report run_sweep_command(const SweepOptions& o, const SweepProcess& process) {
     if (o.output.empty()) throw InputError("--output: a sweep writes a CSV file: give -o OUT.csv");
-    if (o.threads > 1024)
-        throw InputError(fmt::format("--threads: cannot use '{}': out of range. Accepted: 1 to "
-                                     "1024, or 0 for one per core",
-                                     o.threads));
+    const unsigned threads = resolve_threads(o.threads);
     if (o.progress != "auto" && o.progress != "on" && o.progress != "off")
         throw InputError("--progress: cannot use '" + o.progress + "'. Accepted: auto, on, off");
     const std::string spec_text = read_text_file_checked(o.file);
     const SweepSpec spec = read_sweep_spec(o.file);
     const std::string header = sweep_csv_header(spec);
     const SweepShape shape = sweep_shape(spec);
-    const unsigned threads =
-        o.threads ? o.threads : std::max(1u, std::thread::hardware_concurrency());
     const std::string sidecar = sidecar_path(o.output);
 
     // The sidecar: written before the first row (so a killed run can be resumed) and again at
@@ -359,9 +354,7 @@ Command setup_sweep(CLI::App& app) {
                     "The CSV to write (required). Unlike the other subcommands' --output, rows "
                     "stream into it as they are computed, flushed block by block; the sidecar "
                     "OUT.json records the run, and --resume continues a stopped one");
-    sub->add_option("--threads", o->threads,
-                    "Worker threads; default 0, one per core. The CSV is the same for any number")
-        ->default_val(0);
+    add_threads_option(*sub, o->threads, "The CSV is the same for any number");
     sub->add_flag("--resume", o->resume,
                   "Continue a run that was stopped (SIGINT, SIGTERM, or killed): checks the "
                   "sidecar, cuts a partial last row and appends the missing rows");

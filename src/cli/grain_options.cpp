@@ -1,9 +1,11 @@
 #include "grain_options.hpp"
 
 #include <algorithm>
+#include <charconv>
 #include <cmath>
 #include <filesystem>
 #include <numbers>
+#include <thread>
 
 #include <fmt/format.h>
 
@@ -357,6 +359,21 @@ void add_radii_options(CLI::App& app, RadiiOptions& o) {
         ->default_val(200);
 }
 
+void add_threads_option(CLI::App& app, std::string& threads, const std::string& what) {
+    app.add_option("--threads", threads, "Threads; default 0, one per core. " + what)
+        ->default_val("0");
+}
+
+unsigned resolve_threads(const std::string& text) {
+    unsigned n = 0;
+    const char* end = text.data() + text.size();
+    const auto [ptr, ec] = std::from_chars(text.data(), end, n);
+    if (ec != std::errc() || ptr != end || text.empty() || n > 1024)
+        throw InputError("--threads: cannot use '" + text +
+                         "'. Accepted: a whole number from 1 to 1024, or 0 for one per core");
+    return n ? n : std::max(1u, std::thread::hardware_concurrency());
+}
+
 std::string radii_text(const RadiiOptions& o) { return text_of(o.radii, "0.01um..1mm"); }
 
 std::vector<double> parse_radii_um(const RadiiOptions& o) {
@@ -484,22 +501,27 @@ BetaInputs resolve_beta_inputs(const StarOptions& star, const MaterialOptions& m
     if (in.constant_qpr) {
         const double q = *in.constant_qpr;
         in.qpr_mean = [q](double) { return q; };
+        in.qpr_curve = [q](std::span<const double> radii_um, unsigned) {
+            return std::vector<double>(radii_um.size(), q);
+        };
     } else {
         SpectralEfficiency e =
             starlight_qpr_mean(in.material.optics, in.star.star.spectrum, settings);
         in.qpr_mean = std::move(e.mean);
+        in.qpr_curve = std::move(e.curve);
         if (!e.note.empty()) in.notes.push_back(e.note);
     }
     return in;
 }
 
-BetaGrid compute_beta_grid(const BetaModel& model, const std::vector<double>& radii_um) {
+BetaGrid compute_beta_grid(const BetaModel& model, const BetaInputs& in,
+                           const std::vector<double>& radii_um, unsigned threads) {
     BetaGrid g;
     g.radii_um = radii_um;
-    for (double s : radii_um) {
-        const double q = model.qpr_mean_at_um(s);
-        g.qpr_mean.push_back(q);
-        g.beta.push_back(model.beta_from_qpr(q, s));
+    g.qpr_mean = in.qpr_curve(radii_um, threads);
+    for (std::size_t i = 0; i < radii_um.size(); ++i) {
+        BetaModel::check_qpr_mean(g.qpr_mean[i], radii_um[i]);
+        g.beta.push_back(model.beta_from_qpr(g.qpr_mean[i], radii_um[i]));
     }
     return g;
 }

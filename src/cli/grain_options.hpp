@@ -90,6 +90,13 @@ std::string radii_text(const RadiiOptions& o);
 // Log-spaced radii in micrometres, ascending; InputError naming --radii / --points.
 std::vector<double> parse_radii_um(const RadiiOptions& o);
 
+// ---- threads ------------------------------------------------------------------------------------
+// Adds --threads (0, the default: one per core). `what` ends the help: what runs on them.
+void add_threads_option(CLI::App& app, std::string& threads, const std::string& what);
+// The thread count to use: the number read, or one per core for 0. InputError naming
+// --threads unless it is a whole number from 0 to 1024.
+unsigned resolve_threads(const std::string& text);
+
 // ---- parent orbit
 // --------------------------------------------------------------------------------
 struct OrbitOptions {
@@ -118,6 +125,7 @@ struct BetaInputs {
     ResolvedMaterial material;
     std::optional<double> constant_qpr;
     MeanEfficiency qpr_mean;
+    MeanEfficiencyCurve qpr_curve;  // the same on threads, sharing qpr_mean's caches
     std::vector<std::string> notes; // e.g. the out-of-band note, for warnings
 };
 BetaInputs resolve_beta_inputs(const StarOptions& star, const MaterialOptions& material,
@@ -127,6 +135,8 @@ BetaInputs resolve_beta_inputs(const StarOptions& star, const MaterialOptions& m
 struct BetaGrid {
     std::vector<double> radii_um, qpr_mean, beta;
 };
-BetaGrid compute_beta_grid(const BetaModel& model, const std::vector<double>& radii_um);
+// <Q_pr> and beta at each radius; <Q_pr> from in.qpr_curve on `threads` threads.
+BetaGrid compute_beta_grid(const BetaModel& model, const BetaInputs& in,
+                           const std::vector<double>& radii_um, unsigned threads);
 
 } // namespace holdfast::cli

@@ -142,10 +142,14 @@ BetaModel::BetaModel(Power luminosity, Mass star_mass, MassDensity density, Mean
 double BetaModel::qpr_mean_at_um(double radius_um) const {
     require_positive(radius_um, "the grain radius");
     const double q = qpr_mean_(radius_um);
-    if (!(q >= 0.0) || !std::isfinite(q))
-        throw NumericalError("<Q_pr> for a grain of radius " + num(radius_um) +
-                             " um is not a finite non-negative number (" + num(q) + ")");
+    check_qpr_mean(q, radius_um);
     return q;
+}
+
+void BetaModel::check_qpr_mean(double qpr_mean, double radius_um) {
+    if (!(qpr_mean >= 0.0) || !std::isfinite(qpr_mean))
+        throw NumericalError("<Q_pr> for a grain of radius " + num(radius_um) +
+                             " um is not a finite non-negative number (" + num(qpr_mean) + ")");
 }
 
 double BetaModel::beta_from_qpr(double qpr_mean, double radius_um) const {

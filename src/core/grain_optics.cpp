@@ -22,10 +22,13 @@
 // longer depends on x and is cached too. This is what makes a 200-radius beta curve up to
 // millimetre grains fast: the series is never summed beyond x_c.
 #include <algorithm>
+#include <atomic>
 #include <cmath>
+#include <exception>
 #include <numbers>
 #include <optional>
 #include <string>
+#include <thread>
 #include <unordered_map>
 
 #include "grain_spectral_rule.hpp"
@@ -207,6 +210,60 @@ bool use_fixed_rule(const GrainEfficiencySettings& settings) {
     return settings.spectral.relative_tolerance >= detail::fixed_rule_tightest_tolerance;
 }
 
+// Runs body(t) for t = 0..threads-1, t = 0 on the calling thread, and waits for all.
+// `body` must not throw.
+void on_threads(unsigned threads, const std::function<void(unsigned)>& body) {
+    std::vector<std::thread> pool;
+    pool.reserve(threads - 1);
+    for (unsigned t = 1; t < threads; ++t)
+        pool.emplace_back(body, t);
+    body(0);
+    for (auto& th : pool)
+        th.join();
+}
+
+// <Q> at each radius, radii taken from a shared counter by `threads` threads, thread t
+// calling means[t] (callables with caches of their own). A failure is rethrown after all
+// threads finish: the one at the smallest radius index, the error a serial loop would raise.
+std::vector<double> means_on_threads(const std::vector<MeanEfficiency>& means,
+                                     std::span<const double> radii_um) {
+    std::vector<double> out(radii_um.size(), 0.0);
+    std::vector<std::exception_ptr> errors(radii_um.size());
+    std::atomic<std::size_t> next{0};
+    on_threads(static_cast<unsigned>(means.size()), [&](unsigned t) {
+        for (std::size_t i = next++; i < radii_um.size(); i = next++) {
+            try {
+                out[i] = means[t](radii_um[i]);
+            } catch (...) {
+                errors[i] = std::current_exception();
+            }
+        }
+    });
+    for (const auto& e : errors)
+        if (e) std::rethrow_exception(e);
+    return out;
+}
+
+SpectralEfficiency starlight_mean(const GrainOptics& optics,
+                                  std::shared_ptr<const Spectrum> spectrum,
+                                  const GrainEfficiencySettings& settings, bool pressure);
+
+// A curve on several threads for any spectral mean: the calling thread uses `mean`, every
+// other thread a spectral mean of its own from starlight_mean (its caches start empty).
+MeanEfficiencyCurve curve_on_threads(const MeanEfficiency& mean, const GrainOptics& optics,
+                                     const std::shared_ptr<const Spectrum>& spectrum,
+                                     const GrainEfficiencySettings& settings, bool pressure) {
+    return [mean, optics, spectrum, settings, pressure](std::span<const double> radii_um,
+                                                        unsigned threads) {
+        if (radii_um.empty()) return std::vector<double>{};
+        threads = static_cast<unsigned>(std::clamp<std::size_t>(threads, 1, radii_um.size()));
+        std::vector<MeanEfficiency> means{mean};
+        for (unsigned t = 1; t < threads; ++t)
+            means.push_back(starlight_mean(optics, spectrum, settings, pressure).mean);
+        return means_on_threads(means, radii_um);
+    };
+}
+
 SpectralEfficiency starlight_mean(const GrainOptics& optics,
                                   std::shared_ptr<const Spectrum> spectrum,
                                   const GrainEfficiencySettings& settings, bool pressure) {
@@ -230,9 +287,45 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
     if (lattice && detail::fixed_rule_suits(*lattice)) {
         auto curve = std::make_shared<detail::FixedRuleCurve>(q, *lattice);
         const std::vector<double> kinks = sm.breakpoints_um;
-        out.mean = [curve, spectrum, band, kinks, pressure](double radius_um) {
-            const detail::FixedRuleMeans r = curve->means(*spectrum, band, radius_um, kinks);
-            return pressure ? r.q_pr : r.q_abs;
+        auto mean_of = [spectrum, band, kinks,
+                        pressure](std::shared_ptr<detail::FixedRuleCurve> c) -> MeanEfficiency {
+            return [c, spectrum, band, kinks, pressure](double radius_um) {
+                const detail::FixedRuleMeans r = c->means(*spectrum, band, radius_um, kinks);
+                return pressure ? r.q_pr : r.q_abs;
+            };
+        };
+        out.mean = mean_of(curve);
+        // The panels in x first, shared out between the threads, then the radii.
+        out.curve = [curve, mean_of, po, x_large, sm, band](std::span<const double> radii_um,
+                                                            unsigned threads) {
+            if (radii_um.empty()) return std::vector<double>{};
+            threads = static_cast<unsigned>(std::clamp<std::size_t>(threads, 1, radii_um.size()));
+            std::vector<std::shared_ptr<detail::FixedRuleCurve>> curves{curve};
+            for (unsigned t = 1; t < threads; ++t)
+                curves.push_back(std::make_shared<detail::FixedRuleCurve>(
+                    std::make_shared<detail::SmoothedGrainQ>(
+                        po, x_large, detail::fixed_rule_density(sm.relative_tolerance)),
+                    curve->lattice()));
+            const std::vector<long> panels = curve->missing_panels(band, radii_um);
+            std::atomic<std::size_t> next{0};
+            std::vector<std::exception_ptr> errors(threads);
+            on_threads(threads, [&](unsigned t) {
+                try {
+                    curves[t]->compute_panels(panels, next);
+                } catch (...) {
+                    errors[t] = std::current_exception();
+                }
+            });
+            for (const auto& e : errors)
+                if (e) std::rethrow_exception(e);
+            for (unsigned t = 1; t < threads; ++t)
+                curve->adopt_panels(*curves[t]);
+            std::vector<MeanEfficiency> means;
+            for (unsigned t = 0; t < threads; ++t) {
+                if (t > 0) curves[t]->adopt_panels(*curve);
+                means.push_back(mean_of(curves[t]));
+            }
+            return means_on_threads(means, radii_um);
         };
         return out;
     }
@@ -248,6 +341,7 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
             const detail::FixedRuleMeans r = curve->means(*spectrum, radius_um);
             return pressure ? r.q_pr : r.q_abs;
         };
+        out.curve = curve_on_threads(out.mean, optics, spectrum, settings, pressure);
         return out;
     }
     auto cache = std::make_shared<EdgeFitCache>();
@@ -258,6 +352,7 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
         };
         return spectral_mean(qf, *spectrum, band, sm);
     };
+    out.curve = curve_on_threads(out.mean, optics, spectrum, settings, pressure);
     return out;
 }
 

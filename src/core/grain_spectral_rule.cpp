@@ -540,6 +540,46 @@ FixedRuleMeans finished_means(double num_pr, double num_abs, double den,
 
 const FixedRuleCurve::Coarse& FixedRuleCurve::coarse(long j) {
     if (auto it = cache_.find(j); it != cache_.end()) return it->second;
+    if (cache_.size() > 20000) cache_.clear();
+    return cache_.emplace(j, compute_coarse(j)).first->second;
+}
+
+std::pair<long, long> FixedRuleCurve::panel_range(const WavelengthBand& band,
+                                                  double radius_um) const {
+    const double h = lattice_.density.coarse_ln_width;
+    const double two_pi_s = 2.0 * pi * radius_um;
+    const double v_lo = std::log(two_pi_s / band.high_um), v_hi = std::log(two_pi_s / band.low_um);
+    return {static_cast<long>(std::floor(v_lo / h)), static_cast<long>(std::ceil(v_hi / h)) - 1};
+}
+
+std::vector<long> FixedRuleCurve::missing_panels(const WavelengthBand& band,
+                                                 std::span<const double> radii_um) const {
+    std::vector<long> out;
+    if (!lattice_.constant_index) return out;
+    for (double s : radii_um) {
+        if (!(s > 0.0) || !std::isfinite(s)) continue; // means() refuses it with a message
+        const auto [first, last] = panel_range(band, s);
+        for (long j = first; j <= last; ++j)
+            if (!cache_.count(j)) out.push_back(j);
+    }
+    std::sort(out.begin(), out.end());
+    out.erase(std::unique(out.begin(), out.end()), out.end());
+    return out;
+}
+
+void FixedRuleCurve::compute_panels(std::span<const long> panels, std::atomic<std::size_t>& next) {
+    for (std::size_t i = next++; i < panels.size(); i = next++) {
+        const long j = panels[panels.size() - 1 - i];
+        if (!cache_.count(j)) cache_.emplace(j, compute_coarse(j));
+    }
+}
+
+void FixedRuleCurve::adopt_panels(const FixedRuleCurve& other) {
+    for (const auto& [j, c] : other.cache_)
+        cache_.emplace(j, c);
+}
+
+FixedRuleCurve::Coarse FixedRuleCurve::compute_coarse(long j) {
     const GaussRule& rule = gauss8();
     const double h = lattice_.density.coarse_ln_width;
     Coarse c;
@@ -565,8 +605,7 @@ const FixedRuleCurve::Coarse& FixedRuleCurve::coarse(long j) {
             }
         }
     }
-    if (cache_.size() > 20000) cache_.clear();
-    return cache_.emplace(j, std::move(c)).first->second;
+    return c;
 }
 
 FixedRuleMeans FixedRuleCurve::means(const Spectrum& spectrum, const WavelengthBand& band,
@@ -612,8 +651,7 @@ FixedRuleMeans FixedRuleCurve::means(const Spectrum& spectrum, const WavelengthB
             num_abs += w * q.q_abs;
         }
     };
-    const long j_first = static_cast<long>(std::floor(v_lo / h));
-    const long j_last = static_cast<long>(std::ceil(v_hi / h)) - 1;
+    const auto [j_first, j_last] = panel_range(band, radius_um);
     for (long j = j_first; j <= j_last; ++j) {
         const double a = h * static_cast<double>(j), b = h * static_cast<double>(j + 1);
         while (next_kink != kinks.end() && *next_kink <= a)

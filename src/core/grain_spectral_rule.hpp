@@ -3,11 +3,13 @@
 // (grain_spectral_rule.cpp explains the method and its measured accuracy; grain_optics.cpp
 // decides when it is used).
 #include <array>
+#include <atomic>
 #include <complex>
 #include <cstddef>
 #include <functional>
 #include <memory>
 #include <optional>
+#include <span>
 #include <unordered_map>
 #include <vector>
 
@@ -135,6 +137,21 @@ class FixedRuleCurve {
 
     const FixedRuleLattice& lattice() const { return lattice_; }
 
+    // Filling the panel cache on several threads (starlight means of a whole curve): each
+    // thread owns a curve built alike (its own SmoothedGrainQ, whose caches are not
+    // thread-safe), computes the panels it takes from a shared counter, and afterwards the
+    // curves adopt each other's panels. A panel's values depend on its index alone, so every
+    // curve then gives the same means, bit for bit, as one curve filled serially.
+    // The coarse panels means() will need at these radii that this curve has not computed,
+    // ascending (none unless the index is constant).
+    std::vector<long> missing_panels(const WavelengthBand& band,
+                                     std::span<const double> radii_um) const;
+    // Computes panels[i] for each i taken from `next` (i counts down from the most costly,
+    // largest-x panel) until all are taken.
+    void compute_panels(std::span<const long> panels, std::atomic<std::size_t>& next);
+    // Copies the panels `other` (the same lattice) has and this one lacks.
+    void adopt_panels(const FixedRuleCurve& other);
+
   private:
     static constexpr int points = 8; // Gauss-Legendre points per panel
     struct Coarse {
@@ -144,6 +161,9 @@ class FixedRuleCurve {
     };
     int subdivisions(long j) const;
     const Coarse& coarse(long j);
+    Coarse compute_coarse(long j);
+    // The coarse panels [first, last] that means() visits for one radius.
+    std::pair<long, long> panel_range(const WavelengthBand& band, double radius_um) const;
 
     std::shared_ptr<SmoothedGrainQ> q_;
     FixedRuleLattice lattice_;

@@ -15,22 +15,23 @@
 
 namespace {
 
-// The timed part of every case: one <Q_pr> curve over 200 radii from 0.01 um to 1 mm.
+// The timed part of every case: one <Q_pr> curve over 200 radii from 0.01 um to 1 mm, on
+// `threads` threads (SpectralEfficiency::curve, as 'holdfast beta --threads'), 1 by default.
 void time_curve(benchmark::State& state, const holdfast::GrainOptics& optics,
                 const std::shared_ptr<const holdfast::Spectrum>& spectrum,
-                const holdfast::GrainEfficiencySettings& settings) {
+                const holdfast::GrainEfficiencySettings& settings, unsigned threads = 1) {
     const std::vector<double> radii = holdfast::log_spaced(0.01, 1000.0, 200);
     for (auto _ : state) {
         const auto q = holdfast::starlight_qpr_mean(optics, spectrum, settings);
         double sum = 0.0;
-        for (double s : radii)
-            sum += q.mean(s);
+        for (double v : q.curve(radii, threads))
+            sum += v;
         benchmark::DoNotOptimize(sum);
     }
 }
 
 void run(benchmark::State& state, const char* material, double tolerance,
-         const char* mantle = nullptr, double core_fraction = 1.0) {
+         const char* mantle = nullptr, double core_fraction = 1.0, unsigned threads = 1) {
     const holdfast::Star sun = holdfast::sun();
     holdfast::GrainOptics optics;
     optics.core = holdfast::shipped_material(material).optics;
@@ -40,12 +41,19 @@ void run(benchmark::State& state, const char* material, double tolerance,
     }
     holdfast::GrainEfficiencySettings settings;
     settings.spectral.relative_tolerance = tolerance;
-    time_curve(state, optics, sun.spectrum, settings);
+    time_curve(state, optics, sun.spectrum, settings, threads);
 }
 
 void BM_beta_curve_silicate_tol1e5(benchmark::State& state) { run(state, "silicate", 1e-5); }
 void BM_beta_curve_silicate_tol1e6(benchmark::State& state) { run(state, "silicate", 1e-6); }
 void BM_beta_curve_carbon_tol1e5(benchmark::State& state) { run(state, "carbon", 1e-5); }
+// The same curves on 1 and 2 threads (wall-clock time: the argument is the thread count).
+void BM_beta_curve_silicate_tol1e4_threads(benchmark::State& state) {
+    run(state, "silicate", 1e-4, nullptr, 1.0, static_cast<unsigned>(state.range(0)));
+}
+void BM_beta_curve_ice_tol1e5_threads(benchmark::State& state) {
+    run(state, "ice", 1e-5, nullptr, 1.0, static_cast<unsigned>(state.range(0)));
+}
 // Nearly transparent (k = 1e-4): narrow Mie resonances.
 void BM_beta_curve_ice_tol1e5(benchmark::State& state) { run(state, "ice", 1e-5); }
 // A silicate core in an ice mantle, core radius 0.8 of the grain's.
@@ -79,3 +87,13 @@ BENCHMARK(BM_beta_curve_silicate_tol1e6)->Unit(benchmark::kMillisecond);
 BENCHMARK(BM_beta_curve_carbon_tol1e5)->Unit(benchmark::kMillisecond);
 BENCHMARK(BM_beta_curve_ice_tol1e5)->Unit(benchmark::kMillisecond);
 BENCHMARK(BM_beta_curve_silicate_in_ice_tol1e5)->Unit(benchmark::kMillisecond);
+BENCHMARK(BM_beta_curve_silicate_tol1e4_threads)
+    ->Arg(1)
+    ->Arg(2)
+    ->UseRealTime()
+    ->Unit(benchmark::kMillisecond);
+BENCHMARK(BM_beta_curve_ice_tol1e5_threads)
+    ->Arg(1)
+    ->Arg(2)
+    ->UseRealTime()
+    ->Unit(benchmark::kMillisecond);

@@ -130,6 +130,13 @@ rows = out.get("rows", [])
 checks.check(rows and abs(rows[0]["temperature_K"] - 278.0) < 0.5,
              f"278 K at 1 au: {rows[0] if rows else None}")
 
+# ---- threads: the same output for any number --------------------------------------------------
+for cmd in (["beta", "--material", "carbon"], ["blowout", "--material", "ice", "--radii", "0.05um..50um"]):
+    outs = [checks.run(cmd + ["--format", "csv", "--threads", t]) for t in ("1", "2", "3")]
+    for t, proc in zip(("1", "2", "3"), outs):
+        checks.check(proc.returncode == 0, f"{cmd[0]} --threads {t}: {proc.stderr}")
+        checks.check(proc.stdout == outs[0].stdout, f"{cmd[0]} --threads {t}: same output as 1")
+
 # ---- bad input: exit 2, the option named, nothing on stdout, no output file ------------------
 tmp = tempfile.mkdtemp(prefix="holdfast-grain-")
 bad = [
@@ -170,6 +177,10 @@ bad = [
     (["temperature", "--distances", "0.001 au"], "--distances"),
     (["temperature", "--sublimation-temperature", "1500"], "--sublimation-temperature"),
     (["temperature", "--grain-radius", "-1 um"], "--grain-radius"),
+    (["beta", "--threads", "-1"], "--threads"),
+    (["beta", "--threads", "1.5"], "--threads"),
+    (["blowout", "--threads", "5000"], "--threads"),
+    (["blowout", "--threads", "two"], "--threads"),
 ]
 for argv, option in bad:
     target = os.path.join(tmp, "out.json")

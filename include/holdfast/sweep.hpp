@@ -106,7 +106,8 @@ struct SweepRunOptions {
     // Polled by the calling thread; when it returns true the run stops at the next block
     // boundary it can reach cleanly: everything delivered so far stays complete and in order.
     std::function<bool()> stop_requested;
-    // Blocks computed ahead of the one being delivered, at most (bounds memory). 0: 4 per thread.
+    // Blocks computed ahead of the one being delivered, at most (bounds memory). 0: as many as
+    // about 64 MiB of CSV text allows, from 4 to 64 per thread.
     std::size_t window = 0;
 };
 

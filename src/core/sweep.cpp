@@ -92,7 +92,7 @@ class Engine {
         const std::size_t s = block / shape_.materials, m = block % shape_.materials;
         const SweepStar& star = spec_.stars[s];
         const SweepMaterial& mat = spec_.materials[m];
-        Curve& c = curve(star_spectrum_[s] * spec_.materials.size() + m, star, mat);
+        Curve& c = curve(curve_of(block), star, mat);
         const std::vector<double>& radii = spec_.radii_um;
         const std::size_t n = radii.size();
 
@@ -202,6 +202,13 @@ class Engine {
         }
         return out;
     }
+
+    // The curve block `block` needs (blocks of stars with one spectrum share it), and how many.
+    std::size_t curve_of(std::uint64_t block) const {
+        const std::size_t s = block / shape_.materials, m = block % shape_.materials;
+        return star_spectrum_[s] * spec_.materials.size() + m;
+    }
+    std::size_t curves() const { return curves_.size(); }
 
     std::vector<std::string> notes() {
         std::vector<std::string> all;
@@ -342,30 +349,58 @@ SweepOutcome run_sweep(const SweepSpec& spec, const SweepRunOptions& options,
 
     std::atomic<bool> stop{false};
     Engine engine(spec, stop);
-    const std::size_t window = options.window ? options.window : 4 * std::size_t(options.threads);
+    // Blocks held ahead of the one being delivered. Many, so that a thread is not left idle
+    // while another computes a costly block that delivery waits for (a block that computes a
+    // curve can cost as much as hundreds that reuse one), but no more than about 64 MiB of
+    // CSV text at ~128 bytes per row.
+    const std::size_t by_memory = std::size_t((64u << 20) / std::max<std::uint64_t>(1, 128 * rpb));
+    const std::size_t window =
+        options.window ? options.window
+                       : std::clamp<std::size_t>(by_memory, 4 * std::size_t(options.threads),
+                                                 64 * std::size_t(options.threads));
 
+    // Scheduling: a worker takes the first block in the window that it can start at once, that
+    // is whose curve is computed or not yet started (then it computes it). A block whose curve
+    // another worker is computing waits: taking it would only block on that curve.
+    enum class CurveState : char { untouched, computing, done };
     std::mutex mutex;
     std::condition_variable cv;
-    std::size_t claimed = 0, delivered = 0;
+    std::size_t first_open = 0, delivered = 0;
+    std::vector<char> taken(mine.size(), 0);
+    std::vector<CurveState> curve_state(engine.curves(), CurveState::untouched);
     std::map<std::size_t, SweepChunk> ready;
     std::exception_ptr error;
+
+    // Under `mutex`: the block to take next, or mine.size() if none can start now.
+    auto next_block = [&]() -> std::size_t {
+        while (first_open < mine.size() && taken[first_open])
+            ++first_open;
+        const std::size_t end = std::min(mine.size(), delivered + window);
+        for (std::size_t k = first_open; k < end; ++k)
+            if (!taken[k] && curve_state[engine.curve_of(mine[k])] != CurveState::computing)
+                return k;
+        return mine.size();
+    };
 
     auto worker = [&] {
         Engine::Local local;
         for (;;) {
-            std::size_t k;
+            std::size_t k = mine.size();
             {
                 std::unique_lock<std::mutex> lock(mutex);
                 cv.wait(lock, [&] {
-                    return stop.load() || error || claimed >= mine.size() ||
-                           claimed < delivered + window;
+                    return stop.load() || error || (k = next_block()) < mine.size() ||
+                           first_open >= mine.size();
                 });
-                if (stop.load() || error || claimed >= mine.size()) return;
-                k = claimed++;
+                if (stop.load() || error || k >= mine.size()) return;
+                taken[k] = 1;
+                CurveState& cs = curve_state[engine.curve_of(mine[k])];
+                if (cs == CurveState::untouched) cs = CurveState::computing;
             }
             try {
                 SweepChunk chunk = engine.block(mine[k], options.first_row, local);
                 const std::lock_guard<std::mutex> lock(mutex);
+                curve_state[engine.curve_of(mine[k])] = CurveState::done;
                 ready.emplace(k, std::move(chunk));
             } catch (const Stopped&) {
                 return;

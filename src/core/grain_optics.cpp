@@ -306,12 +306,16 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
                     std::make_shared<detail::SmoothedGrainQ>(
                         po, x_large, detail::fixed_rule_density(sm.relative_tolerance)),
                     curve->lattice()));
-            const std::vector<long> panels = curve->missing_panels(band, radii_um);
-            std::atomic<std::size_t> next{0};
+            // The calling thread computes the panels above the large-sphere limit (building
+            // its model once) while the others start on the costliest series panels.
+            const detail::FixedRuleCurve::MissingPanels panels =
+                curve->missing_panels(band, radii_um);
+            std::atomic<std::size_t> next{0}, next_model{0};
             std::vector<std::exception_ptr> errors(threads);
             on_threads(threads, [&](unsigned t) {
                 try {
-                    curves[t]->compute_panels(panels, next);
+                    if (t == 0) curve->compute_panels(panels.model, next_model);
+                    curves[t]->compute_panels(panels.series, next);
                 } catch (...) {
                     errors[t] = std::current_exception();
                 }
@@ -322,7 +326,10 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
                 curve->adopt_panels(*curves[t]);
             std::vector<MeanEfficiency> means;
             for (unsigned t = 0; t < threads; ++t) {
-                if (t > 0) curves[t]->adopt_panels(*curve);
+                if (t > 0) {
+                    curves[t]->adopt_panels(*curve);
+                    curve->share_models_with(*curves[t]);
+                }
                 means.push_back(mean_of(curves[t]));
             }
             return means_on_threads(means, radii_um);

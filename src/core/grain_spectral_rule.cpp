@@ -270,6 +270,13 @@ struct SmoothedGrainQ::EdgeFit {
         return *slot;
     }
 
+    // Every window average and the fit: at() then only reads.
+    void complete() {
+        for (int j = 0; j <= last; ++j)
+            grid(j);
+        if (fit_pending) fit_to_grid();
+    }
+
     Value at(double x) {
         const MieEfficiencies g = go.at(x);
         Value rx;
@@ -398,6 +405,13 @@ SmoothedGrainQ::Value SmoothedGrainQ::geometric_at(double wavelength_um, double 
     GeometricOptics go{m, std::nullopt};
     const MieEfficiencies g = go.at(x);
     return {g.q_pr, g.q_abs};
+}
+
+void SmoothedGrainQ::share_models_with(SmoothedGrainQ& other) {
+    for (auto& [key, fit] : fits_) {
+        fit->complete();
+        other.fits_[key] = fit;
+    }
 }
 
 SmoothedGrainQ::Value SmoothedGrainQ::homogeneous(std::complex<double> m, double x, bool model) {
@@ -552,18 +566,21 @@ std::pair<long, long> FixedRuleCurve::panel_range(const WavelengthBand& band,
     return {static_cast<long>(std::floor(v_lo / h)), static_cast<long>(std::ceil(v_hi / h)) - 1};
 }
 
-std::vector<long> FixedRuleCurve::missing_panels(const WavelengthBand& band,
-                                                 std::span<const double> radii_um) const {
-    std::vector<long> out;
+FixedRuleCurve::MissingPanels
+FixedRuleCurve::missing_panels(const WavelengthBand& band, std::span<const double> radii_um) const {
+    MissingPanels out;
     if (!lattice_.constant_index) return out;
+    std::vector<long> all;
     for (double s : radii_um) {
         if (!(s > 0.0) || !std::isfinite(s)) continue; // means() refuses it with a message
         const auto [first, last] = panel_range(band, s);
         for (long j = first; j <= last; ++j)
-            if (!cache_.count(j)) out.push_back(j);
+            if (!cache_.count(j)) all.push_back(j);
     }
-    std::sort(out.begin(), out.end());
-    out.erase(std::unique(out.begin(), out.end()), out.end());
+    std::sort(all.begin(), all.end());
+    all.erase(std::unique(all.begin(), all.end()), all.end());
+    for (long j : all)
+        (j >= j_top_ ? out.model : out.series).push_back(j);
     return out;
 }
 

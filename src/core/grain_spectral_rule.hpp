@@ -61,6 +61,12 @@ class SmoothedGrainQ {
     // of the mantle where it hides the core), 0 for a coated sphere whose core shows.
     Value geometric_at(double wavelength_um, double x) const;
 
+    // Completes the large-sphere models of homogeneous spheres built so far (every window
+    // average and the fit beyond them), after which they are only read, and gives them to
+    // `other` (built alike): curves on several threads share them instead of each building its
+    // own. Coated spheres' models grow as they are used, so each object keeps its own.
+    void share_models_with(SmoothedGrainQ& other);
+
     const GrainOptics& optics() const { return optics_; }
     double large_x() const { return large_x_; }
     const FixedRuleDensity& density() const { return density_; }
@@ -143,14 +149,21 @@ class FixedRuleCurve {
     // curves adopt each other's panels. A panel's values depend on its index alone, so every
     // curve then gives the same means, bit for bit, as one curve filled serially.
     // The coarse panels means() will need at these radii that this curve has not computed,
-    // ascending (none unless the index is constant).
-    std::vector<long> missing_panels(const WavelengthBand& band,
-                                     std::span<const double> radii_um) const;
+    // ascending (none unless the index is constant): those above the large-sphere limit,
+    // which need its model (one thread computes them, building the model once), and the rest.
+    struct MissingPanels {
+        std::vector<long> model, series;
+    };
+    MissingPanels missing_panels(const WavelengthBand& band,
+                                 std::span<const double> radii_um) const;
     // Computes panels[i] for each i taken from `next` (i counts down from the most costly,
     // largest-x panel) until all are taken.
     void compute_panels(std::span<const long> panels, std::atomic<std::size_t>& next);
     // Copies the panels `other` (the same lattice) has and this one lacks.
     void adopt_panels(const FixedRuleCurve& other);
+    // This curve's large-sphere models, completed, for `other` (SmoothedGrainQ::
+    // share_models_with).
+    void share_models_with(FixedRuleCurve& other) { q_->share_models_with(*other.q_); }
 
   private:
     static constexpr int points = 8; // Gauss-Legendre points per panel

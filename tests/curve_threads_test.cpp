@@ -4,6 +4,7 @@
 // changes nothing (the design promise of grain.hpp), so no tolerance is allowed.
 #include <catch2/catch.hpp>
 
+#include <atomic>
 #include <complex>
 #include <limits>
 #include <memory>
@@ -69,7 +70,7 @@ TEST_CASE("a curve on several threads equals the serial means bit for bit", "[cu
                 expected.push_back(serial.mean(s));
             for (unsigned threads : {1u, 2u, 3u}) {
                 const SpectralEfficiency e = starlight_qpr_mean(c.optics, sun_spectrum, c.settings);
-                const std::vector<double> got = e.curve(c.radii_um, threads);
+                const std::vector<double> got = e.curve(c.radii_um, threads, nullptr);
                 REQUIRE(got.size() == expected.size());
                 for (std::size_t i = 0; i < got.size(); ++i) {
                     INFO("threads " << threads << ", radius " << c.radii_um[i] << " um");
@@ -92,12 +93,13 @@ TEST_CASE("Q_abs curves on threads equal the serial means", "[curve_threads]") {
     const auto radii = log_spaced(0.01, 100.0, 40);
     const SpectralEfficiency serial = starlight_qabs_mean(carbon, sun().spectrum);
     const SpectralEfficiency e = starlight_qabs_mean(carbon, sun().spectrum);
-    const std::vector<double> got = e.curve(radii, 2);
+    const std::vector<double> got = e.curve(radii, 2, nullptr);
     for (std::size_t i = 0; i < radii.size(); ++i)
         CHECK(got[i] == serial.mean(radii[i]));
     // More threads than radii: one radius each.
     const std::vector<double> few(radii.begin(), radii.begin() + 5);
-    const std::vector<double> got_few = starlight_qabs_mean(carbon, sun().spectrum).curve(few, 16);
+    const std::vector<double> got_few =
+        starlight_qabs_mean(carbon, sun().spectrum).curve(few, 16, nullptr);
     for (std::size_t i = 0; i < few.size(); ++i)
         CHECK(got_few[i] == serial.mean(few[i]));
 }
@@ -109,11 +111,25 @@ TEST_CASE("a curve on threads raises the error the serial loop raises first", "[
     // The serial loop would stop at the first bad radius (index 2: zero), not at the NaN.
     const std::vector<double> radii{0.1, 1.0, 0.0, 3.0, std::numeric_limits<double>::quiet_NaN()};
     try {
-        e.curve(radii, 3);
+        e.curve(radii, 3, nullptr);
         FAIL("no error for a zero radius");
     } catch (const InputError& err) {
         CHECK_THAT(err.what(), Catch::Contains("got 0 um"));
     }
     // Empty input: nothing to compute, no thread started.
-    CHECK(e.curve({}, 4).empty());
+    CHECK(e.curve({}, 4, nullptr).empty());
+}
+
+TEST_CASE("a curve asked to stop returns empty", "[curve_threads]") {
+    GrainOptics silicate;
+    silicate.core = constant_index({1.7, 0.03});
+    GrainEfficiencySettings tight;
+    tight.spectral.relative_tolerance = 1e-8; // the generic path as well as the fixed rule
+    const std::atomic<bool> stop{true};
+    const auto radii = log_spaced(0.1, 10.0, 8);
+    for (const auto& settings : {GrainEfficiencySettings{}, tight})
+        for (unsigned threads : {1u, 2u})
+            CHECK(starlight_qpr_mean(silicate, sun().spectrum, settings)
+                      .curve(radii, threads, &stop)
+                      .empty());
 }

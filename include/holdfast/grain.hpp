@@ -8,6 +8,7 @@
 //   MeanEfficiency  radius_um      -> <Q_pr> (spectrum-weighted radiation-pressure efficiency)
 //   PlanckMean      temperature_K  -> Planck-weighted mean absorption efficiency
 // Everywhere "radius" is the grain's radius, never its diameter.
+#include <atomic>
 #include <functional>
 #include <memory>
 #include <optional>
@@ -278,9 +279,10 @@ MieEfficiencies grain_efficiencies(const GrainOptics& optics, double radius_um,
 // `curve` gives <Q> at many radii on several threads: the numbers `mean` gives, bit for bit,
 // whatever the thread count (each thread works on its own caches; with a constant index the
 // threads share out the panels in x first, and `mean` keeps them for later radii). `mean` and
-// `curve` share state: call them from one thread at a time.
-using MeanEfficiencyCurve =
-    std::function<std::vector<double>(std::span<const double> radii_um, unsigned threads)>;
+// `curve` share state: call them from one thread at a time. When `stop` (may be null) turns
+// true the threads finish the radius or panel they are on and the curve returns empty.
+using MeanEfficiencyCurve = std::function<std::vector<double>(
+    std::span<const double> radii_um, unsigned threads, const std::atomic<bool>* stop)>;
 struct SpectralEfficiency {
     MeanEfficiency mean;                // radius_um -> <Q>
     MeanEfficiencyCurve curve;          // radii_um, threads -> <Q> at each radius

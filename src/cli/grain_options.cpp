@@ -501,7 +501,7 @@ BetaInputs resolve_beta_inputs(const StarOptions& star, const MaterialOptions& m
     if (in.constant_qpr) {
         const double q = *in.constant_qpr;
         in.qpr_mean = [q](double) { return q; };
-        in.qpr_curve = [q](std::span<const double> radii_um, unsigned) {
+        in.qpr_curve = [q](std::span<const double> radii_um, unsigned, const std::atomic<bool>*) {
             return std::vector<double>(radii_um.size(), q);
         };
     } else {
@@ -518,7 +518,7 @@ BetaGrid compute_beta_grid(const BetaModel& model, const BetaInputs& in,
                            const std::vector<double>& radii_um, unsigned threads) {
     BetaGrid g;
     g.radii_um = radii_um;
-    g.qpr_mean = in.qpr_curve(radii_um, threads);
+    g.qpr_mean = in.qpr_curve(radii_um, threads, nullptr);
     for (std::size_t i = 0; i < radii_um.size(); ++i) {
         BetaModel::check_qpr_mean(g.qpr_mean[i], radii_um[i]);
         g.beta.push_back(model.beta_from_qpr(g.qpr_mean[i], radii_um[i]));

@@ -210,6 +210,10 @@ bool use_fixed_rule(const GrainEfficiencySettings& settings) {
     return settings.spectral.relative_tolerance >= detail::fixed_rule_tightest_tolerance;
 }
 
+bool stopped(const std::atomic<bool>* stop) {
+    return stop != nullptr && stop->load(std::memory_order_relaxed);
+}
+
 // Runs body(t) for t = 0..threads-1, t = 0 on the calling thread, and waits for all.
 // `body` must not throw.
 void on_threads(unsigned threads, const std::function<void(unsigned)>& body) {
@@ -226,12 +230,13 @@ void on_threads(unsigned threads, const std::function<void(unsigned)>& body) {
 // calling means[t] (callables with caches of their own). A failure is rethrown after all
 // threads finish: the one at the smallest radius index, the error a serial loop would raise.
 std::vector<double> means_on_threads(const std::vector<MeanEfficiency>& means,
-                                     std::span<const double> radii_um) {
+                                     std::span<const double> radii_um,
+                                     const std::atomic<bool>* stop) {
     std::vector<double> out(radii_um.size(), 0.0);
     std::vector<std::exception_ptr> errors(radii_um.size());
     std::atomic<std::size_t> next{0};
     on_threads(static_cast<unsigned>(means.size()), [&](unsigned t) {
-        for (std::size_t i = next++; i < radii_um.size(); i = next++) {
+        for (std::size_t i = next++; i < radii_um.size() && !stopped(stop); i = next++) {
             try {
                 out[i] = means[t](radii_um[i]);
             } catch (...) {
@@ -239,6 +244,7 @@ std::vector<double> means_on_threads(const std::vector<MeanEfficiency>& means,
             }
         }
     });
+    if (stopped(stop)) return {};
     for (const auto& e : errors)
         if (e) std::rethrow_exception(e);
     return out;
@@ -253,14 +259,14 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
 MeanEfficiencyCurve curve_on_threads(const MeanEfficiency& mean, const GrainOptics& optics,
                                      const std::shared_ptr<const Spectrum>& spectrum,
                                      const GrainEfficiencySettings& settings, bool pressure) {
-    return [mean, optics, spectrum, settings, pressure](std::span<const double> radii_um,
-                                                        unsigned threads) {
+    return [mean, optics, spectrum, settings, pressure](
+               std::span<const double> radii_um, unsigned threads, const std::atomic<bool>* stop) {
         if (radii_um.empty()) return std::vector<double>{};
         threads = static_cast<unsigned>(std::clamp<std::size_t>(threads, 1, radii_um.size()));
         std::vector<MeanEfficiency> means{mean};
         for (unsigned t = 1; t < threads; ++t)
             means.push_back(starlight_mean(optics, spectrum, settings, pressure).mean);
-        return means_on_threads(means, radii_um);
+        return means_on_threads(means, radii_um, stop);
     };
 }
 
@@ -297,7 +303,8 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
         out.mean = mean_of(curve);
         // The panels in x first, shared out between the threads, then the radii.
         out.curve = [curve, mean_of, po, x_large, sm, band](std::span<const double> radii_um,
-                                                            unsigned threads) {
+                                                            unsigned threads,
+                                                            const std::atomic<bool>* stop) {
             if (radii_um.empty()) return std::vector<double>{};
             threads = static_cast<unsigned>(std::clamp<std::size_t>(threads, 1, radii_um.size()));
             std::vector<std::shared_ptr<detail::FixedRuleCurve>> curves{curve};
@@ -314,8 +321,8 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
             std::vector<std::exception_ptr> errors(threads);
             on_threads(threads, [&](unsigned t) {
                 try {
-                    if (t == 0) curve->compute_panels(panels.model, next_model);
-                    curves[t]->compute_panels(panels.series, next);
+                    if (t == 0) curve->compute_panels(panels.model, next_model, stop);
+                    curves[t]->compute_panels(panels.series, next, stop);
                 } catch (...) {
                     errors[t] = std::current_exception();
                 }
@@ -324,6 +331,7 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
                 if (e) std::rethrow_exception(e);
             for (unsigned t = 1; t < threads; ++t)
                 curve->adopt_panels(*curves[t]);
+            if (stopped(stop)) return std::vector<double>{};
             std::vector<MeanEfficiency> means;
             for (unsigned t = 0; t < threads; ++t) {
                 if (t > 0) {
@@ -332,7 +340,7 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
                 }
                 means.push_back(mean_of(curves[t]));
             }
-            return means_on_threads(means, radii_um);
+            return means_on_threads(means, radii_um, stop);
         };
         return out;
     }

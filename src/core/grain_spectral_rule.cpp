@@ -584,8 +584,10 @@ FixedRuleCurve::missing_panels(const WavelengthBand& band, std::span<const doubl
     return out;
 }
 
-void FixedRuleCurve::compute_panels(std::span<const long> panels, std::atomic<std::size_t>& next) {
+void FixedRuleCurve::compute_panels(std::span<const long> panels, std::atomic<std::size_t>& next,
+                                    const std::atomic<bool>* stop) {
     for (std::size_t i = next++; i < panels.size(); i = next++) {
+        if (stop != nullptr && stop->load(std::memory_order_relaxed)) return;
         const long j = panels[panels.size() - 1 - i];
         if (!cache_.count(j)) cache_.emplace(j, compute_coarse(j));
     }

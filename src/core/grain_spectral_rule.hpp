@@ -157,8 +157,9 @@ class FixedRuleCurve {
     MissingPanels missing_panels(const WavelengthBand& band,
                                  std::span<const double> radii_um) const;
     // Computes panels[i] for each i taken from `next` (i counts down from the most costly,
-    // largest-x panel) until all are taken.
-    void compute_panels(std::span<const long> panels, std::atomic<std::size_t>& next);
+    // largest-x panel) until all are taken or `stop` (may be null) turns true.
+    void compute_panels(std::span<const long> panels, std::atomic<std::size_t>& next,
+                        const std::atomic<bool>* stop);
     // Copies the panels `other` (the same lattice) has and this one lacks.
     void adopt_panels(const FixedRuleCurve& other);
     // This curve's large-sphere models, completed, for `other` (SmoothedGrainQ::

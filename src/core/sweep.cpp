@@ -65,7 +65,11 @@ struct Curve {
 
 class Engine {
   public:
-    Engine(const SweepSpec& spec, const std::atomic<bool>& stop) : spec_(spec), stop_(stop) {
+    // `threads`: the pool's size. With fewer curves than threads each curve's radii are also
+    // shared out between threads (SpectralEfficiency::curve), so a sweep of one or two
+    // curves still keeps every core busy.
+    Engine(const SweepSpec& spec, const std::atomic<bool>& stop, unsigned threads)
+        : spec_(spec), stop_(stop) {
         shape_ = sweep_shape(spec);
         need_qpr_ = wants(spec, SweepQuantity::qpr_mean) || wants(spec, SweepQuantity::beta) ||
                     wants(spec, SweepQuantity::bound) ||
@@ -79,6 +83,8 @@ class Engine {
             star_spectrum_.push_back(spectra.emplace(s.spectrum_key, spectra.size()).first->second);
         spectra_ = spectra.size();
         curves_ = std::vector<Curve>(spectra_ * spec.materials.size());
+        curve_threads_ = static_cast<unsigned>(
+            std::max<std::size_t>(1, threads / std::max<std::size_t>(1, curves_.size())));
     }
 
     // Worker-local state: the Planck means for the temperature balance (they keep caches that
@@ -246,22 +252,18 @@ class Engine {
                 starlight_qpr_mean(mat.optics, star.star.spectrum, spec_.settings);
             if (!e.note.empty()) c.notes.push_back(e.note);
             c.qpr_fn = std::move(e.mean);
-            // The same check BetaModel::qpr_mean_at_um makes (finite, >= 0).
-            const BetaModel probe(star.star.luminosity, star.star.mass, mat.density, c.qpr_fn);
-            c.qpr.resize(n);
-            for (std::size_t i = 0; i < n; ++i) {
-                check_stop();
-                c.qpr[i] = probe.qpr_mean_at_um(spec_.radii_um[i]);
-            }
+            c.qpr = e.curve(spec_.radii_um, curve_threads_, &stop_);
+            check_stop();
+            for (std::size_t i = 0; i < n; ++i)
+                BetaModel::check_qpr_mean(c.qpr[i], spec_.radii_um[i]);
         }
         if (need_qabs_) {
             SpectralEfficiency e =
                 starlight_qabs_mean(mat.optics, star.star.spectrum, spec_.settings);
             if (!e.note.empty() && c.notes.empty()) c.notes.push_back(e.note);
-            c.qabs.resize(n);
+            c.qabs = e.curve(spec_.radii_um, curve_threads_, &stop_);
+            check_stop();
             for (std::size_t i = 0; i < n; ++i) {
-                check_stop();
-                c.qabs[i] = e.mean(spec_.radii_um[i]);
                 if (!std::isfinite(c.qabs[i]) || c.qabs[i] < 0.0)
                     throw NumericalError("the spectral mean of Q_abs is not finite and >= 0 at " +
                                          sweep_number(spec_.radii_um[i]) + " um");
@@ -278,6 +280,7 @@ class Engine {
     std::vector<std::size_t> star_spectrum_;
     std::size_t spectra_ = 0;
     std::vector<Curve> curves_;
+    unsigned curve_threads_ = 1;
 };
 
 } // namespace
@@ -348,7 +351,7 @@ SweepOutcome run_sweep(const SweepSpec& spec, const SweepRunOptions& options,
         if (b % options.block_stride == options.block_offset) mine.push_back(b);
 
     std::atomic<bool> stop{false};
-    Engine engine(spec, stop);
+    Engine engine(spec, stop, options.threads);
     // Blocks held ahead of the one being delivered. Many, so that a thread is not left idle
     // while another computes a costly block that delivery waits for (a block that computes a
     // curve can cost as much as hundreds that reuse one), but no more than about 64 MiB of

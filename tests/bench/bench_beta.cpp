@@ -24,7 +24,7 @@ void time_curve(benchmark::State& state, const holdfast::GrainOptics& optics,
     for (auto _ : state) {
         const auto q = holdfast::starlight_qpr_mean(optics, spectrum, settings);
         double sum = 0.0;
-        for (double v : q.curve(radii, threads))
+        for (double v : q.curve(radii, threads, nullptr))
             sum += v;
         benchmark::DoNotOptimize(sum);
     }

@@ -283,6 +283,29 @@ TEST_CASE("sweep output does not depend on threads, start row or process split",
     CHECK(merged == one);
 }
 
+TEST_CASE("a sweep of fewer curves than threads shares each curve's radii", "[sweep]") {
+    // One star and one material: a single curve, computed on all the threads at once, with
+    // the temperature's Q_abs curve too.
+    const SweepSpec spec = spec_of(R"(
+quantities = ["qpr_mean", "qabs_mean", "beta", "blowout_radii", "temperature"]
+radii = "0.01um..100um"
+points = 40
+distances = ["1 au", "3 au"]
+
+[[star]]
+preset = "sun"
+
+[[material]]
+name = "carbon"
+)");
+    const std::string one = run_all(spec);
+    for (unsigned t : {2u, 3u}) {
+        SweepRunOptions o;
+        o.threads = t;
+        CHECK(run_all(spec, o) == one);
+    }
+}
+
 TEST_CASE("a stop request ends the run at a block boundary", "[sweep]") {
     const SweepSpec spec = spec_of(small_spec);
     const std::string one = run_all(spec);

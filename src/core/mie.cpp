@@ -587,9 +587,11 @@ HOLDFAST_MIE_INLINE void log_derivative_serial(cplx inv_z, int start, int n_term
     const double iz_re = inv_z.real();
     const double iz_im = inv_z.imag();
     double up_re = 0.0, up_im = 0.0, cur_re = 1.0, cur_im = 0.0;
-    double f = 2.0 * start + 1.0; // 2n + 1, exact
-    int n = start;
-    // One step from (psi_{n+1}, psi_n) to (psi_n, psi_{n-1}); returns psi_{n-1}.
+    // An even number of steps above the stored range (one more step from above changes
+    // nothing but the decay of the arbitrary start).
+    int n = start + ((start - n_terms - 1) & 1);
+    double f = 2.0 * n + 1.0; // 2n + 1, exact
+    // One step from (psi_{n+1}, psi_n) to (psi_n, psi_{n-1}).
     const auto step = [&]() {
         const double a_re = f * iz_re;
         const double a_im = f * iz_im;
@@ -603,6 +605,31 @@ HOLDFAST_MIE_INLINE void log_derivative_serial(cplx inv_z, int start, int n_term
         f -= 2.0;
         --n;
     };
+    // Two steps at once, from (psi_{n+1}, psi_n) to (psi_{n-1}, psi_{n-2}):
+    //   psi_{n-1} = a_n psi_n - psi_{n+1},
+    //   psi_{n-2} = a_{n-1} psi_{n-1} - psi_n = (a_{n-1} a_n - 1) psi_n - a_{n-1} psi_{n+1}.
+    // The second form depends on psi_n and psi_{n+1} only, so the two values are formed side
+    // by side: 12 cycles of latency per two steps instead of 16 (the coefficient
+    // a_{n-1} a_n - 1 is off the chain). The same recurrence, rounded differently
+    // (tests/mie_reference_test.cpp).
+    const auto two_steps = [&]() {
+        const double a_re = f * iz_re;
+        const double a_im = f * iz_im;
+        const double b_re = (f - 2.0) * iz_re;
+        const double b_im = (f - 2.0) * iz_im;
+        const double c_re = b_re * a_re - b_im * a_im - 1.0;
+        const double c_im = b_re * a_im + b_im * a_re;
+        const double m1_re = a_re * cur_re - up_re - a_im * cur_im;
+        const double m1_im = a_re * cur_im - up_im + a_im * cur_re;
+        const double m2_re = (c_re * cur_re - c_im * cur_im) - (b_re * up_re - b_im * up_im);
+        const double m2_im = (c_re * cur_im + c_im * cur_re) - (b_re * up_im + b_im * up_re);
+        up_re = m1_re;
+        up_im = m1_im;
+        cur_re = m2_re;
+        cur_im = m2_im;
+        f -= 4.0;
+        n -= 2;
+    };
     const auto too_big = [&]() { return std::max(std::abs(cur_re), std::abs(cur_im)) > big; };
     const auto rescale = [&]() {
         up_re *= shrink;
@@ -610,32 +637,44 @@ HOLDFAST_MIE_INLINE void log_derivative_serial(cplx inv_z, int start, int n_term
         cur_re *= shrink;
         cur_im *= shrink;
     };
-    // Above the stored range: psi_{n_terms+1} is the first value kept.
-    while (n >= n_terms + 6) {
+    // Above the stored range: psi_{n_terms+1} is the first value kept. The upward psi_n(x),
+    // chi_n(x) recurrence rides along, two orders per two steps (it stops by itself at N).
+    if (((n - n_terms - 1) & 2) != 0) {
         riccati.advance_two();
-        step();
-        step();
-        riccati.advance_two();
-        step();
-        step();
-        if (too_big()) rescale();
+        two_steps();
     }
     while (n > n_terms + 1) {
-        if ((n & 1) == 0) riccati.advance_two();
-        step();
+        riccati.advance_two();
+        two_steps();
+        riccati.advance_two();
+        two_steps();
+        if (too_big()) rescale();
     }
-    // Stored range: psi_k at index k, k = n_terms + 1 down to 0. rescaled_at lists the k
-    // after whose store the chain was rescaled (at most one per 4 steps).
+    // Stored range: psi_k at index k, k = n_terms + 1 down to 0, first (n_terms + 1) % 4
+    // steps, then blocks of 4 with the size check after each. rescaled_at lists the k after
+    // whose store the chain was rescaled.
     int rescaled_at[serial_max_steps / 4 + 2];
     int rescales = 0;
     p_re[n] = cur_re;
     p_im[n] = cur_im;
-    while (n >= 1) {
-        if ((n & 1) == 0) riccati.advance_two();
+    if ((n & 1) != 0) {
         step();
         p_re[n] = cur_re;
         p_im[n] = cur_im;
-        if ((n & 3) == 0 && n > 0 && too_big()) {
+    }
+    const auto two_steps_stored = [&]() {
+        riccati.advance_two();
+        two_steps();
+        p_re[n + 1] = up_re;
+        p_im[n + 1] = up_im;
+        p_re[n] = cur_re;
+        p_im[n] = cur_im;
+    };
+    if ((n & 2) != 0) two_steps_stored();
+    while (n >= 4) {
+        two_steps_stored();
+        two_steps_stored();
+        if (n > 0 && too_big()) {
             rescale();
             rescaled_at[rescales++] = n;
         }

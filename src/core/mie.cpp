@@ -296,8 +296,9 @@ class UpwardRiccati {
 // with a 50-digit serial evaluation). Common factors are irrelevant to D_n, so each lane is
 // rescaled by an exact power of two when it grows (checked every `rescale_every` steps in A,
 // every `width` steps in C: a step grows a vector by at most |a_n| + 1 = (2n + 1)/|mx| + 1.
-// The lanes run only for start > serial_max_steps, i.e. N or |mx| near 80 or more; with
-// |m| >= n_min = 0.01 that bound peaks at 356 (x ~ 55, |mx| ~ 0.55), so 8 steps from below
+// The lanes run only where the serial chain's start (detail::serial_start) would pass
+// serial_max_steps, i.e. N near 80 or more or |mx| near 60 or more (N >= 77 means x >= 55);
+// with |m| >= n_min = 0.01 that bound peaks at 356 (x ~ 55, |mx| ~ 0.55), so 8 steps from below
 // `big` stay below 2e90 * 356^8 ~ 6e110, far from overflow also when squared in
 // |psi_{n-1}|^2; the serial form checks every step).
 constexpr int rescale_every = 8;
@@ -568,7 +569,7 @@ HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx inv_z, int start, int n_terms
 
 // Below this many steps the lanes' fixed cost (two sets of matrices, the serial
 // matrix-vector products, the reordering) outweighs their gain over the plain chain.
-constexpr int serial_max_steps = 96;
+constexpr int serial_max_steps = detail::serial_max_top;
 
 // The plain serial recurrence for D_n, n = 0..n_terms, in two passes: the chain itself
 // (psi_{n-1} = a_n psi_n - psi_{n+1}, two multiply-adds of latency per step and nothing else),
@@ -827,13 +828,14 @@ HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_
     const cplx z = m * x;
     const cplx inv_z = 1.0 / z;
     // |z| without std::abs (hypot's care for overflow is not needed here).
-    const int start =
-        detail::downward_start(std::sqrt(z.real() * z.real() + z.imag() * z.imag()), n_terms);
+    const double abs_z = std::sqrt(z.real() * z.real() + z.imag() * z.imag());
+    const int serial_top = detail::serial_start(abs_z, n_terms);
     UpwardRiccati riccati(x, n_terms, psi, chi);
-    if (start <= serial_max_steps)
-        log_derivative_serial(inv_z, start, n_terms, d_re, d_im, a_re, a_im, t.n, riccati);
+    if (serial_top > 0)
+        log_derivative_serial(inv_z, serial_top, n_terms, d_re, d_im, a_re, a_im, t.n, riccati);
     else
-        log_derivative_lanes(inv_z, start, n_terms, d_re, d_im, riccati);
+        log_derivative_lanes(inv_z, detail::downward_start(abs_z, n_terms), n_terms, d_re, d_im,
+                             riccati);
     riccati.finish();
     SeriesSums s;
     coefficient_sums(m, x, n_terms, d_re, d_im, psi, chi, t, a_re, a_im, b_re, b_im, s);

@@ -297,7 +297,7 @@ class UpwardRiccati {
 // rescaled by an exact power of two when it grows (checked every `rescale_every` steps in A,
 // every `width` steps in C: a step grows a vector by at most |a_n| + 1 = (2n + 1)/|mx| + 1.
 // The lanes run only where the serial chain's start (detail::serial_start) would pass
-// serial_max_steps, i.e. N near 80 or more or |mx| near 60 or more (N >= 77 means x >= 55);
+// serial_max_steps, i.e. N near 90 or more (x above ~62) or |mx| near 60 or more;
 // with |m| >= n_min = 0.01 that bound peaks at 356 (x ~ 55, |mx| ~ 0.55), so 8 steps from below
 // `big` stay below 2e90 * 356^8 ~ 6e110, far from overflow also when squared in
 // |psi_{n-1}|^2; the serial form checks every step).

@@ -1,7 +1,9 @@
 #pragma once
 // Pieces shared by the Mie kernels in this folder (private to holdfast_core).
 // References: C. F. Bohren & D. R. Huffman (1983), "Absorption and Scattering of Light by
-// Small Particles", Wiley (BH below), chapter 4; W. J. Wiscombe (1980), Appl. Opt. 19, 1505.
+// Small Particles", Wiley (BH below), chapter 4; W. J. Wiscombe (1980), Appl. Opt. 19, 1505;
+// W. Gautschi (1967), SIAM Rev. 9, 24 and Abramowitz & Stegun (1964), eqs. 9.3.7, 9.3.8 for
+// serial_start.
 #include <algorithm>
 #include <array>
 #include <cmath>

@@ -174,6 +174,20 @@ TEST_CASE("fast series matches a 50-digit evaluation, x up to 1e3", "[mie][refer
             compare_with_reference(m, x);
 }
 
+// The serial D_n(mx) chain starts where Debye's asymptotic decay of its start error reaches
+// 1e-16 (detail::serial_start; the exact start error is checked in mie_start_test.cpp) and
+// hands over to the lanes above order 95. These sizes put N + 1 below and above |m| x and
+// the start on both sides of that switch (e.g. m = 1.5: serial up to x ~ 40, lanes from
+// x = 45); real indices have the slowest decay. Same 1e-9 as above.
+TEST_CASE("fast series matches a 50-digit evaluation around the serial D_n start",
+          "[mie][reference]") {
+    const std::complex<double> indices[] = {{1.5, 0.0}, {4.0, 0.0}, {1.7, 0.03},
+                                            {2.0, 0.6}, {1.2, 0.2}, {0.75, 0.0}};
+    for (const auto m : indices)
+        for (const double x : {3.0, 8.0, 15.0, 25.0, 35.0, 40.0, 45.0, 55.0, 65.0})
+            compare_with_reference(m, x);
+}
+
 TEST_CASE("fast series matches a 50-digit evaluation, x = 3e3 and 1e4", "[mie][reference][slow]") {
     const std::complex<double> indices[] = {
         {1.33, 1e-5}, {1.7, 0.03}, {2.0, 0.6}, {10.0, 10.0}, {0.75, 0.0}};

@@ -10,6 +10,9 @@
 //    downward recurrence for D_n, upward recurrence for psi_n(x), chi_n(x).
 //  - G. W. Kattawar & G. N. Plass (1967), Appl. Opt. 6, 1377: D_n upward is unstable for
 //    absorbing spheres; downward is stable.
+//  - W. Gautschi (1967), SIAM Rev. 9, 24: the error of Miller's arbitrary start; with Debye's
+//    asymptotic forms (M. Abramowitz & I. A. Stegun 1964, Handbook of Mathematical Functions,
+//    eqs. 9.3.7, 9.3.8) it sets the start of the short D_n chain (mie_series.hpp).
 //
 // Range (MieRange in mie.hpp): 1e-6 <= x <= 1e5, 0.01 <= n <= 1000, 0 <= k <= 1000,
 // |m| x <= 2e6. Inside it the results agree with a 50-digit evaluation of the series to a
@@ -195,8 +198,10 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 // The kernel runs in passes over buffers instead of one loop over n, so that most of the
 // work has no dependency from one n to the next and vectorises:
 //  1. D_n(mx), n = 0..N, by the downward recurrence, cut into parallel lanes
-//     (log_derivative_lanes), or serially when it is short (log_derivative_serial: the bare
-//     chain first, D_n from its stored values afterwards in a vectorised loop);
+//     (log_derivative_lanes, from downward_start), or serially when it is short
+//     (log_derivative_serial: the bare chain first, D_n from its stored values afterwards in
+//     a vectorised loop; started from detail::serial_start, which is lower: only as high as
+//     the start error's decay to 1e-16 needs, 42-45 instead of 46-51 at x = 10);
 //  2. psi_n(x), chi_n(x), n = 0..N, upward (UpwardRiccati): a serial chain, interleaved
 //     with pass 1 so that its latency is hidden;
 //  3. a_n, b_n and the efficiency sums (coefficient_sums), independent in n;
@@ -296,8 +301,9 @@ class UpwardRiccati {
 // with a 50-digit serial evaluation). Common factors are irrelevant to D_n, so each lane is
 // rescaled by an exact power of two when it grows (checked every `rescale_every` steps in A,
 // every `width` steps in C: a step grows a vector by at most |a_n| + 1 = (2n + 1)/|mx| + 1.
-// The lanes run only for start > serial_max_steps, i.e. N or |mx| near 80 or more; with
-// |m| >= n_min = 0.01 that bound peaks at 356 (x ~ 55, |mx| ~ 0.55), so 8 steps from below
+// The lanes run only where the serial chain's start (detail::serial_start) would pass
+// serial_max_steps, i.e. N near 90 or more (x above ~62) or |mx| near 60 or more;
+// with |m| >= n_min = 0.01 that bound peaks at 356 (x ~ 55, |mx| ~ 0.55), so 8 steps from below
 // `big` stay below 2e90 * 356^8 ~ 6e110, far from overflow also when squared in
 // |psi_{n-1}|^2; the serial form checks every step).
 constexpr int rescale_every = 8;
@@ -568,7 +574,7 @@ HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx inv_z, int start, int n_terms
 
 // Below this many steps the lanes' fixed cost (two sets of matrices, the serial
 // matrix-vector products, the reordering) outweighs their gain over the plain chain.
-constexpr int serial_max_steps = 96;
+constexpr int serial_max_steps = detail::serial_max_top;
 
 // The plain serial recurrence for D_n, n = 0..n_terms, in two passes: the chain itself
 // (psi_{n-1} = a_n psi_n - psi_{n+1}, two multiply-adds of latency per step and nothing else),
@@ -587,9 +593,11 @@ HOLDFAST_MIE_INLINE void log_derivative_serial(cplx inv_z, int start, int n_term
     const double iz_re = inv_z.real();
     const double iz_im = inv_z.imag();
     double up_re = 0.0, up_im = 0.0, cur_re = 1.0, cur_im = 0.0;
-    double f = 2.0 * start + 1.0; // 2n + 1, exact
-    int n = start;
-    // One step from (psi_{n+1}, psi_n) to (psi_n, psi_{n-1}); returns psi_{n-1}.
+    // An even number of steps above the stored range (one more step from above changes
+    // nothing but the decay of the arbitrary start).
+    int n = start + ((start - n_terms - 1) & 1);
+    double f = 2.0 * n + 1.0; // 2n + 1, exact
+    // One step from (psi_{n+1}, psi_n) to (psi_n, psi_{n-1}).
     const auto step = [&]() {
         const double a_re = f * iz_re;
         const double a_im = f * iz_im;
@@ -603,6 +611,16 @@ HOLDFAST_MIE_INLINE void log_derivative_serial(cplx inv_z, int start, int n_term
         f -= 2.0;
         --n;
     };
+    // Steps go in pairs, the chain's loops in blocks of four with one size check each: no
+    // branch per step. (Forming psi_{n-2} = (a_{n-1} a_n - 1) psi_n - a_{n-1} psi_{n+1} beside
+    // psi_{n-1} cuts the latency of a pair from 16 to 12 cycles, but costs 15% more
+    // instructions in the chain; with the other core busy, as on the shared development
+    // machine, that made a call at x = 10 no faster than before, while plain steps with the
+    // lower start were 3-6% faster.)
+    const auto two_steps = [&]() {
+        step();
+        step();
+    };
     const auto too_big = [&]() { return std::max(std::abs(cur_re), std::abs(cur_im)) > big; };
     const auto rescale = [&]() {
         up_re *= shrink;
@@ -610,32 +628,44 @@ HOLDFAST_MIE_INLINE void log_derivative_serial(cplx inv_z, int start, int n_term
         cur_re *= shrink;
         cur_im *= shrink;
     };
-    // Above the stored range: psi_{n_terms+1} is the first value kept.
-    while (n >= n_terms + 6) {
+    // Above the stored range: psi_{n_terms+1} is the first value kept. The upward psi_n(x),
+    // chi_n(x) recurrence rides along, two orders per two steps (it stops by itself at N).
+    if (((n - n_terms - 1) & 2) != 0) {
         riccati.advance_two();
-        step();
-        step();
-        riccati.advance_two();
-        step();
-        step();
-        if (too_big()) rescale();
+        two_steps();
     }
     while (n > n_terms + 1) {
-        if ((n & 1) == 0) riccati.advance_two();
-        step();
+        riccati.advance_two();
+        two_steps();
+        riccati.advance_two();
+        two_steps();
+        if (too_big()) rescale();
     }
-    // Stored range: psi_k at index k, k = n_terms + 1 down to 0. rescaled_at lists the k
-    // after whose store the chain was rescaled (at most one per 4 steps).
+    // Stored range: psi_k at index k, k = n_terms + 1 down to 0, first (n_terms + 1) % 4
+    // steps, then blocks of 4 with the size check after each. rescaled_at lists the k after
+    // whose store the chain was rescaled.
     int rescaled_at[serial_max_steps / 4 + 2];
     int rescales = 0;
     p_re[n] = cur_re;
     p_im[n] = cur_im;
-    while (n >= 1) {
-        if ((n & 1) == 0) riccati.advance_two();
+    if ((n & 1) != 0) {
         step();
         p_re[n] = cur_re;
         p_im[n] = cur_im;
-        if ((n & 3) == 0 && n > 0 && too_big()) {
+    }
+    const auto two_steps_stored = [&]() {
+        riccati.advance_two();
+        two_steps();
+        p_re[n + 1] = up_re;
+        p_im[n + 1] = up_im;
+        p_re[n] = cur_re;
+        p_im[n] = cur_im;
+    };
+    if ((n & 2) != 0) two_steps_stored();
+    while (n >= 4) {
+        two_steps_stored();
+        two_steps_stored();
+        if (n > 0 && too_big()) {
             rescale();
             rescaled_at[rescales++] = n;
         }
@@ -788,13 +818,14 @@ HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_
     const cplx z = m * x;
     const cplx inv_z = 1.0 / z;
     // |z| without std::abs (hypot's care for overflow is not needed here).
-    const int start =
-        detail::downward_start(std::sqrt(z.real() * z.real() + z.imag() * z.imag()), n_terms);
+    const double abs_z = std::sqrt(z.real() * z.real() + z.imag() * z.imag());
+    const int serial_top = detail::serial_start(abs_z, n_terms);
     UpwardRiccati riccati(x, n_terms, psi, chi);
-    if (start <= serial_max_steps)
-        log_derivative_serial(inv_z, start, n_terms, d_re, d_im, a_re, a_im, t.n, riccati);
+    if (serial_top > 0)
+        log_derivative_serial(inv_z, serial_top, n_terms, d_re, d_im, a_re, a_im, t.n, riccati);
     else
-        log_derivative_lanes(inv_z, start, n_terms, d_re, d_im, riccati);
+        log_derivative_lanes(inv_z, detail::downward_start(abs_z, n_terms), n_terms, d_re, d_im,
+                             riccati);
     riccati.finish();
     SeriesSums s;
     coefficient_sums(m, x, n_terms, d_re, d_im, psi, chi, t, a_re, a_im, b_re, b_im, s);

@@ -1,7 +1,9 @@
 #pragma once
 // Pieces shared by the Mie kernels in this folder (private to holdfast_core).
 // References: C. F. Bohren & D. R. Huffman (1983), "Absorption and Scattering of Light by
-// Small Particles", Wiley (BH below), chapter 4; W. J. Wiscombe (1980), Appl. Opt. 19, 1505.
+// Small Particles", Wiley (BH below), chapter 4; W. J. Wiscombe (1980), Appl. Opt. 19, 1505;
+// W. Gautschi (1967), SIAM Rev. 9, 24 and Abramowitz & Stegun (1964), eqs. 9.3.7, 9.3.8 for
+// serial_start.
 #include <algorithm>
 #include <array>
 #include <cmath>
@@ -135,6 +137,80 @@ inline int downward_start(double abs_z, int n_terms) {
     // The margin needs no more than a few digits of |z|^(1/3) (2 Newton steps: 1e-6).
     const double above = std::ceil(abs_z + 5.0 * cbrt_newton(abs_z, 2));
     return (above > n_terms ? static_cast<int>(above) : n_terms) + 16;
+}
+
+// The serial D_n(mx) chain of sphere_large (mie.cpp) runs for starts up to this order.
+inline constexpr int serial_max_top = 96;
+
+// Start of the serial chain. The arbitrary start psi_{top+1} = 0 makes the chain compute
+// psi_n + c chi_n, chi_n a second solution of the recurrence, c = -psi_{top+1}/chi_{top+1}:
+// at order n the relative error is |psi_{top+1}/chi_{top+1}| |chi_n/psi_n| (the usual
+// analysis of Miller's algorithm; W. Gautschi 1967, SIAM Rev. 9, 24, section 3). By Debye's
+// asymptotic forms (Abramowitz & Stegun 1964, eqs. 9.3.7, 9.3.8, order nu = n + 1/2),
+// ln|psi_n/chi_n| falls by 2 acosh(nu/|z|) per unit of order where nu > |z| (real z; an
+// absorbing z only adds decay). So the chain starts at top = s0 + k, s0 = max(N + 1, |z|),
+// with k the fewest steps whose decays 2 acosh(n/|z|), n = s0, s0 + 1, ..., add up to
+// ln(1e17): the start's error is below 1e-16 at every n <= N + 1. The decay is taken at n,
+// below the order n + 1/2..n + 3/2 of the step, and |z| is rounded up: both make it smaller,
+// so k errs on the safe side. Checked against the exact error (long double psi_n, chi_n) for
+// |z| = 0.03..75, arg z = 0..1.5, N = 4..90 wherever top <= serial_max_top: top was 1 to 5
+// steps above the least start that meets 1e-16 (the asymptotic decay is slightly low near
+// nu ~ |z|), and 4 to 9 steps below downward_start at x = 10 (m = 1.7+0.03i, 2.0+0.6i).
+// The table holds top for ceil(|z|) (at least 1) and s0 up to serial_max_top, or 0 where
+// top would reach it (sphere_large then runs its lanes from downward_start). Computed at compile
+// time; the constexpr square root and logarithm below need only a few digits.
+namespace start_table {
+constexpr double sqrt_of(double v) { // v >= 1: Newton from v, quadratic convergence
+    double y = v;
+    for (int i = 0; i < 64; ++i)
+        y = 0.5 * (y + v / y);
+    return y;
+}
+constexpr double log_of(double y) { // y >= 1: ln 2 per halving, then 2 atanh((y-1)/(y+1))
+    double k = 0.0;
+    while (y > 2.0) {
+        y *= 0.5;
+        k += 1.0;
+    }
+    const double u = (y - 1.0) / (y + 1.0); // <= 1/3: u^61 < 1e-29
+    double term = u, sum = 0.0;
+    for (int j = 0; j < 30; ++j) {
+        sum += term / (2 * j + 1);
+        term *= u * u;
+    }
+    return k * 0.6931471805599453 + 2.0 * sum;
+}
+constexpr double acosh_of(double t) { return log_of(t + sqrt_of(t * t - 1.0)); }
+
+struct Table {
+    std::uint8_t top[serial_max_top + 1][serial_max_top + 1];
+};
+constexpr Table make() {
+    constexpr double target = 39.14394658089878; // ln(1e17)
+    Table t{};
+    for (int iz = 1; iz <= serial_max_top; ++iz) {
+        double decay[serial_max_top + 1] = {};
+        for (int n = iz + 1; n <= serial_max_top; ++n)
+            decay[n] = 2.0 * acosh_of(static_cast<double>(n) / iz);
+        for (int s0 = iz; s0 <= serial_max_top; ++s0) {
+            double sum = 0.0;
+            int n = s0;
+            while (sum < target && n <= serial_max_top)
+                sum += decay[n++];
+            // At most serial_max_top - 1: the chain may add one step (an even count).
+            t.top[iz][s0] = static_cast<std::uint8_t>(sum >= target && n < serial_max_top ? n : 0);
+        }
+    }
+    return t;
+}
+inline constexpr Table table = make();
+} // namespace start_table
+
+// top from the table, or 0 if the serial chain does not take this |z| and N.
+inline int serial_start(double abs_z, int n_terms) {
+    if (!(abs_z <= serial_max_top) || n_terms >= serial_max_top) return 0;
+    const int iz = std::max(1, static_cast<int>(std::ceil(abs_z)));
+    return start_table::table.top[iz][std::max(n_terms + 1, iz)];
 }
 
 // Logarithmic derivative D_n(z) = psi_n'(z) / psi_n(z) for n = 0..n_terms into d[0..n_terms]

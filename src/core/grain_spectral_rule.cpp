@@ -130,12 +130,16 @@ struct GeometricOptics {
     std::optional<MieEfficiencies> absorbed;
     MieEfficiencies at(double x) {
         if (m.imag() * x >= absorbed_kx) {
-            if (!absorbed)
-                absorbed = mie_geometric_optics(
-                    m, std::max(absorbed_kx / m.imag(), MieRange::x_min_geometric));
+            complete();
             return *absorbed;
         }
         return mie_geometric_optics(m, x);
+    }
+    // Computes what at() would keep, so that at() only reads from then on.
+    void complete() {
+        if (!absorbed && m.imag() > 0.0)
+            absorbed = mie_geometric_optics(
+                m, std::max(absorbed_kx / m.imag(), MieRange::x_min_geometric));
     }
 };
 
@@ -270,11 +274,12 @@ struct SmoothedGrainQ::EdgeFit {
         return *slot;
     }
 
-    // Every window average and the fit: at() then only reads.
+    // Every window average, the fit and geometric optics' kept value: at() then only reads.
     void complete() {
         for (int j = 0; j <= last; ++j)
             grid(j);
         if (fit_pending) fit_to_grid();
+        go.complete();
     }
 
     Value at(double x) {

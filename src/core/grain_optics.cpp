@@ -313,16 +313,31 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
                     std::make_shared<detail::SmoothedGrainQ>(
                         po, x_large, detail::fixed_rule_density(sm.relative_tolerance)),
                     curve->lattice()));
-            // The calling thread computes the panels above the large-sphere limit (building
-            // its model once) while the others start on the costliest series panels.
+            // The threads share one large-sphere model (a constant index has one): the
+            // calling thread builds it while the others start on the costliest series
+            // panels, then all take the panels above the limit, which use it, and the rest.
             const detail::FixedRuleCurve::MissingPanels panels =
                 curve->missing_panels(band, radii_um);
-            std::atomic<std::size_t> next{0}, next_model{0};
+            const double wavelength_um = curve->lattice().reference_wavelength_um;
+            const bool shared = threads > 1 && !panels.model.empty() &&
+                                curve->grain_q().prepare_shared_model(wavelength_um);
+            if (shared)
+                for (unsigned t = 1; t < threads; ++t)
+                    curve->grain_q().share_models_with(curves[t]->grain_q());
+            std::atomic<bool> model_ready{!shared};
+            detail::FixedRuleCurve::PanelCounters next;
             std::vector<std::exception_ptr> errors(threads);
             on_threads(threads, [&](unsigned t) {
                 try {
-                    if (t == 0) curve->compute_panels(panels.model, next_model, stop);
-                    curves[t]->compute_panels(panels.series, next, stop);
+                    if (t == 0 && shared) curve->grain_q().complete_models();
+                } catch (...) {
+                    errors[t] = std::current_exception();
+                    next.model.store(panels.model.size()); // nobody uses the broken model
+                }
+                if (t == 0) model_ready.store(true, std::memory_order_release);
+                if (errors[t]) return;
+                try {
+                    curves[t]->compute_panels(panels, next, model_ready, stop);
                 } catch (...) {
                     errors[t] = std::current_exception();
                 }
@@ -334,10 +349,7 @@ SpectralEfficiency starlight_mean(const GrainOptics& optics,
             if (stopped(stop)) return std::vector<double>{};
             std::vector<MeanEfficiency> means;
             for (unsigned t = 0; t < threads; ++t) {
-                if (t > 0) {
-                    curves[t]->adopt_panels(*curve);
-                    curve->share_models_with(*curves[t]);
-                }
+                if (t > 0) curves[t]->adopt_panels(*curve);
                 means.push_back(mean_of(curves[t]));
             }
             return means_on_threads(means, radii_um, stop);

@@ -63,6 +63,7 @@
 #include <map>
 #include <numbers>
 #include <string>
+#include <thread>
 
 #include <gsl/gsl_integration.h>
 
@@ -274,10 +275,14 @@ struct SmoothedGrainQ::EdgeFit {
         return *slot;
     }
 
-    // Every window average, the fit and geometric optics' kept value: at() then only reads.
+    // Everything at(x) may fill in for x > x_from (the window averages it interpolates, the
+    // fit beyond them, geometric optics' kept value), so that it then only reads. With a single
+    // window point and the fit from single values (k x_from >= 1), at() needs no window above
+    // x_from: skipping it saves the costliest average.
     void complete() {
-        for (int j = 0; j <= last; ++j)
-            grid(j);
+        if (!(last == 0 && a))
+            for (int j = 0; j <= last; ++j)
+                grid(j);
         if (fit_pending) fit_to_grid();
         go.complete();
     }
@@ -412,11 +417,22 @@ SmoothedGrainQ::Value SmoothedGrainQ::geometric_at(double wavelength_um, double 
     return {g.q_pr, g.q_abs};
 }
 
+bool SmoothedGrainQ::prepare_shared_model(double wavelength_um) {
+    if (!(large_x_ > 0.0) || coated_grain(optics_)) return false;
+    const std::complex<double> m = optics_.core->index_at_um(wavelength_um);
+    const IndexKey key{m.real(), m.imag(), 0.0, 0.0};
+    if (!fits_.count(key)) fits_.emplace(key, std::make_shared<EdgeFit>(m, large_x_, density_));
+    return true;
+}
+
 void SmoothedGrainQ::share_models_with(SmoothedGrainQ& other) {
-    for (auto& [key, fit] : fits_) {
-        fit->complete();
+    for (const auto& [key, fit] : fits_)
         other.fits_[key] = fit;
-    }
+}
+
+void SmoothedGrainQ::complete_models() {
+    for (auto& entry : fits_)
+        entry.second->complete();
 }
 
 SmoothedGrainQ::Value SmoothedGrainQ::homogeneous(std::complex<double> m, double x, bool model) {
@@ -589,12 +605,22 @@ FixedRuleCurve::missing_panels(const WavelengthBand& band, std::span<const doubl
     return out;
 }
 
-void FixedRuleCurve::compute_panels(std::span<const long> panels, std::atomic<std::size_t>& next,
+void FixedRuleCurve::compute_panels(const MissingPanels& panels, PanelCounters& next,
+                                    const std::atomic<bool>& model_ready,
                                     const std::atomic<bool>* stop) {
-    for (std::size_t i = next++; i < panels.size(); i = next++) {
-        if (stop != nullptr && stop->load(std::memory_order_relaxed)) return;
-        const long j = panels[panels.size() - 1 - i];
+    auto take = [this](const std::vector<long>& list, std::atomic<std::size_t>& counter) {
+        const std::size_t i = counter++;
+        if (i >= list.size()) return false;
+        const long j = list[list.size() - 1 - i];
         if (!cache_.count(j)) cache_.emplace(j, compute_coarse(j));
+        return true;
+    };
+    for (;;) {
+        if (stop != nullptr && stop->load(std::memory_order_relaxed)) return;
+        if (model_ready.load(std::memory_order_acquire) && take(panels.model, next.model)) continue;
+        if (take(panels.series, next.series)) continue;
+        if (next.model.load() >= panels.model.size()) return;
+        std::this_thread::yield(); // the series panels are done; the model is being built
     }
 }
 

@@ -61,11 +61,17 @@ class SmoothedGrainQ {
     // of the mantle where it hides the core), 0 for a coated sphere whose core shows.
     Value geometric_at(double wavelength_um, double x) const;
 
-    // Completes the large-sphere models of homogeneous spheres built so far (every window
-    // average and the fit beyond them), after which they are only read, and gives them to
-    // `other` (built alike): curves on several threads share them instead of each building its
-    // own. Coated spheres' models grow as they are used, so each object keeps its own.
+    // For curves on several threads, which share one large-sphere model instead of each
+    // building its own. prepare_shared_model creates the homogeneous sphere's model at
+    // `wavelength_um` (a constant index has only that one), not yet filled in; false when there
+    // is none to share (no large-sphere limit, or a coated grain, whose models grow as they are
+    // used). share_models_with hands this object's models to `other`, built alike.
+    // complete_models fills in everything at() above large_x() may need, after which at() only
+    // reads them; it must happen before another thread uses them (model_at() at or below
+    // large_x() may still fill them in: not for sharing).
+    bool prepare_shared_model(double wavelength_um);
     void share_models_with(SmoothedGrainQ& other);
+    void complete_models();
 
     const GrainOptics& optics() const { return optics_; }
     double large_x() const { return large_x_; }
@@ -156,15 +162,18 @@ class FixedRuleCurve {
     };
     MissingPanels missing_panels(const WavelengthBand& band,
                                  std::span<const double> radii_um) const;
-    // Computes panels[i] for each i taken from `next` (i counts down from the most costly,
-    // largest-x panel) until all are taken or `stop` (may be null) turns true.
-    void compute_panels(std::span<const long> panels, std::atomic<std::size_t>& next,
-                        const std::atomic<bool>* stop);
+    // Computes panels for one of several threads, each panel taken from its list's counter,
+    // until all are taken or `stop` (may be null) turns true: the model panels (once
+    // `model_ready`) before the series panels, both from the most costly (largest x) down.
+    // A thread that runs out of series panels waits for `model_ready`.
+    struct PanelCounters {
+        std::atomic<std::size_t> model{0}, series{0};
+    };
+    void compute_panels(const MissingPanels& panels, PanelCounters& next,
+                        const std::atomic<bool>& model_ready, const std::atomic<bool>* stop);
     // Copies the panels `other` (the same lattice) has and this one lacks.
     void adopt_panels(const FixedRuleCurve& other);
-    // This curve's large-sphere models, completed, for `other` (SmoothedGrainQ::
-    // share_models_with).
-    void share_models_with(FixedRuleCurve& other) { q_->share_models_with(*other.q_); }
+    SmoothedGrainQ& grain_q() { return *q_; }
 
   private:
     static constexpr int points = 8; // Gauss-Legendre points per panel

@@ -7,10 +7,10 @@
 //   --benchmark_report_aggregates_only=true
 // Counters: rows_per_s; busy_cores, the process's CPU time over the wall time (2 when both
 // threads never wait; the engine's own losses show here, apart from the machine's); and in
-// BM_thread_scaling the median over pairs of back-to-back runs (1 thread, then 2) of the ratio
-// of their wall times. On a machine shared with other jobs the speed drifts by tens of percent
-// over seconds; a pair sees nearly the same conditions, so its ratio is steadier than the ratio
-// of two medians taken a minute apart.
+// BM_thread_scaling the median over pairs of back-to-back runs (1 thread and 2, in turns first)
+// of the ratio of their wall times. On a machine shared with other jobs the speed drifts by tens of
+// percent over seconds; a pair sees nearly the same conditions, so its ratio is steadier than the
+// ratio of two medians taken a minute apart.
 #include <benchmark/benchmark.h>
 
 #include <algorithm>
@@ -81,19 +81,25 @@ BENCHMARK(BM_beta_sweep)->Arg(1)->Arg(2)->UseRealTime()->Unit(benchmark::kMillis
 void BM_thread_scaling(benchmark::State& state) {
     const holdfast::SweepSpec spec = holdfast::parse_sweep_spec(spec_text, "bench.toml", "");
     std::vector<double> ratios;
+    bool one_first = true;
     for (auto _ : state) {
-        const double t0 = wall_s();
-        sweep_once(spec, 1);
-        const double t1 = wall_s();
-        sweep_once(spec, 2);
-        const double t2 = wall_s();
-        ratios.push_back((t1 - t0) / (t2 - t1));
+        // Alternate which runs first, in case the first or second run of a pair is favoured
+        // (a core left idle for a second may take a while to come back to full speed).
+        double seconds[2] = {0.0, 0.0}; // 1 thread, 2 threads
+        for (int k = 0; k < 2; ++k) {
+            const int threads = (k == 0) == one_first ? 1 : 2;
+            const double t0 = wall_s();
+            sweep_once(spec, static_cast<unsigned>(threads));
+            seconds[threads - 1] = wall_s() - t0;
+        }
+        ratios.push_back(seconds[0] / seconds[1]);
+        one_first = !one_first;
     }
     std::sort(ratios.begin(), ratios.end());
     const std::size_t n = ratios.size();
     state.counters["pair_ratio"] = n ? 0.5 * (ratios[(n - 1) / 2] + ratios[n / 2]) : 0.0;
 }
-BENCHMARK(BM_thread_scaling)->Iterations(5)->UseRealTime()->Unit(benchmark::kMillisecond);
+BENCHMARK(BM_thread_scaling)->Iterations(6)->UseRealTime()->Unit(benchmark::kMillisecond);
 
 // Keeps the median rows/s of each thread count to print their ratio at the end.
 class RatioReporter : public benchmark::ConsoleReporter {

@@ -594,23 +594,29 @@ constexpr int serial_max_steps = detail::serial_max_top;
 // small_x_limit = 0.025), so it stays below 3e121, far from overflow also when squared.
 // A rescale inside the stored range, after psi_k is stored, leaves psi_k and psi_{k-1} at
 // different scales; the D_{k-1} of that pair is formed again afterwards with psi_k scaled.
-HOLDFAST_MIE_INLINE bool log_derivative_serial(cplx inv_z, int start, int n_terms, double* d_re,
-                                               double* d_im, double* p_re, double* p_im,
-                                               const double* tn, UpwardRiccati& riccati) {
+HOLDFAST_MIE_INLINE bool log_derivative_serial(cplx z, cplx inv_z, int start, int n_terms,
+                                               double* d_re, double* d_im, double* p_re,
+                                               double* p_im, const double* tn,
+                                               UpwardRiccati& riccati) {
     const double iz_re = inv_z.real();
     const double iz_im = inv_z.imag();
+    const double z_re = z.real();
+    const double z_im = z.imag();
+    const cplx z2 = z * z;
+    const double z2_re = z2.real();
+    const double z2_im = z2.imag();
     double up_re = 0.0, up_im = 0.0, cur_re = 1.0, cur_im = 0.0;
     // An even number of steps above the stored range (one more step from above changes
     // nothing but the decay of the arbitrary start).
     int n = start + ((start - n_terms - 1) & 1);
     double f = 2.0 * n + 1.0; // 2n + 1, exact
-    // One step from (psi_{n+1}, psi_n) to (psi_n, psi_{n-1}).
+    // One step from (u_{n+1}, u_n) to (u_n, u_{n-1}), u_{n-1} = (2n+1) u_n - z^2 u_{n+1}.
     const auto step = [&]() {
-        const double a_re = f * iz_re;
-        const double a_im = f * iz_im;
-        // Term order: two multiply-adds in the chain (see transfer_matrices).
-        const double lo_re = a_re * cur_re - up_re - a_im * cur_im;
-        const double lo_im = a_re * cur_im - up_im + a_im * cur_re;
+        // The z^2 u_{n+1} part does not depend on u_n: one multiply-add in the chain.
+        const double t_re = z2_im * up_im - z2_re * up_re;
+        const double t_im = -(z2_re * up_im + z2_im * up_re);
+        const double lo_re = f * cur_re + t_re;
+        const double lo_im = f * cur_im + t_im;
         up_re = cur_re;
         up_im = cur_im;
         cur_re = lo_re;
@@ -679,24 +685,28 @@ HOLDFAST_MIE_INLINE bool log_derivative_serial(cplx inv_z, int start, int n_term
     }
     // Without a rescale in the stored range series_sums forms D_n itself from psi_n, psi_{n+1}.
     if (rescales == 0) return false;
-    // D_k = (k+1)/z - psi_{k+1}/psi_k, the division as multiplication by the conjugate over
-    // |psi_k|^2: one real division.
+    // D_k = (k+1)/z - z u_{k+1}/u_k, the division as multiplication by the conjugate over
+    // |u_k|^2: one real division.
 #pragma omp simd
     for (int k = 0; k <= n_terms; ++k) {
         const double inv = 1.0 / (p_re[k] * p_re[k] + p_im[k] * p_im[k]);
-        d_re[k] = tn[k + 1] * iz_re - (p_re[k + 1] * p_re[k] + p_im[k + 1] * p_im[k]) * inv;
-        d_im[k] = tn[k + 1] * iz_im - (p_im[k + 1] * p_re[k] - p_re[k + 1] * p_im[k]) * inv;
+        const double q_re = (p_re[k + 1] * p_re[k] + p_im[k + 1] * p_im[k]) * inv;
+        const double q_im = (p_im[k + 1] * p_re[k] - p_re[k + 1] * p_im[k]) * inv;
+        d_re[k] = tn[k + 1] * iz_re - (z_re * q_re - z_im * q_im);
+        d_im[k] = tn[k + 1] * iz_im - (z_re * q_im + z_im * q_re);
     }
     for (int i = 0; i < rescales; ++i) {
-        // psi_{k} was stored before the rescale, psi_{k-1} after it: D_{k-1} again.
+        // u_k was stored before the rescale, u_{k-1} after it: D_{k-1} again.
         const int k = rescaled_at[i];
         const double hi_re = p_re[k] * shrink;
         const double hi_im = p_im[k] * shrink;
         const double lo_re = p_re[k - 1];
         const double lo_im = p_im[k - 1];
         const double inv = 1.0 / (lo_re * lo_re + lo_im * lo_im);
-        d_re[k - 1] = tn[k] * iz_re - (hi_re * lo_re + hi_im * lo_im) * inv;
-        d_im[k - 1] = tn[k] * iz_im - (hi_im * lo_re - hi_re * lo_im) * inv;
+        const double q_re = (hi_re * lo_re + hi_im * lo_im) * inv;
+        const double q_im = (hi_im * lo_re - hi_re * lo_im) * inv;
+        d_re[k - 1] = tn[k] * iz_re - (z_re * q_re - z_im * q_im);
+        d_im[k - 1] = tn[k] * iz_im - (z_re * q_im + z_im * q_re);
     }
     return true;
 }
@@ -775,6 +785,7 @@ HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, cplx inv_z, int n_terms, 
     const double m_re = m.real(), m_im = m.imag();
     const double im_re = inv_m.real(), im_im = inv_m.imag();
     const double iz_re = inv_z.real(), iz_im = inv_z.imag();
+    const double z_re = m_re * x, z_im = m_im * x;
     const double inv_x = 1.0 / x;
     const double last = n_terms;
     LaneVec nd = {1.0, 2.0, 3.0, 4.0};
@@ -787,8 +798,10 @@ HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, cplx inv_z, int n_terms, 
             const LaneVec qr = load_lanes(d_re + n + 1), qi = load_lanes(d_im + n + 1);
             const LaneVec inv = 1.0 / (pr * pr + pi * pi);
             const LaneVec n1 = nd + 1.0;
-            dr = n1 * iz_re - (qr * pr + qi * pi) * inv;
-            di = n1 * iz_im - (qi * pr - qr * pi) * inv;
+            const LaneVec rr = (qr * pr + qi * pi) * inv; // u_{n+1}/u_n
+            const LaneVec ri = (qi * pr - qr * pi) * inv;
+            dr = n1 * iz_re - (z_re * rr - z_im * ri);
+            di = n1 * iz_im - (z_re * ri + z_im * rr);
         } else {
             dr = load_lanes(d_re + n);
             di = load_lanes(d_im + n);
@@ -883,8 +896,8 @@ HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_
     };
     bool have_d = true;
     if (serial_top > 0) {
-        have_d = log_derivative_serial(inv_z, serial_top, n_terms, d_re, d_im, p_re, p_im, t.n,
-                                       riccati);
+        have_d = log_derivative_serial(z, inv_z, serial_top, n_terms, d_re, d_im, p_re, p_im,
+                                       t.n, riccati);
     } else {
         log_derivative_lanes(inv_z, detail::downward_start(abs_z, n_terms), n_terms, d_re, d_im,
                              riccati);

@@ -242,8 +242,12 @@ class UpwardRiccati {
     UpwardRiccati(double x, int n_terms, double* psi, double* chi)
         : inv_x_(1.0 / x), pairs_left_((n_terms - 1) / 2), one_left_((n_terms - 1) % 2 != 0),
           psi_(psi), chi_(chi) {
-        psi_prev_ = std::sin(x);
-        chi_prev_ = std::cos(x);
+        if (x < detail::moderate_x_limit) {
+            detail::sin_cos_moderate(x, psi_prev_, chi_prev_);
+        } else {
+            psi_prev_ = std::sin(x);
+            chi_prev_ = std::cos(x);
+        }
         psi_n_ = psi_prev_ * inv_x_ - chi_prev_; // psi_1
         chi_n_ = chi_prev_ * inv_x_ + psi_prev_; // chi_1
         psi[0] = psi_prev_;
@@ -984,6 +988,8 @@ int mie_series_terms(double x) {
     // by < 3.1e-4); it decides the ceiling unless the sum lies within 1e-3 of an integer (x a
     // perfect cube, say: ~0.2% of all x), where std::cbrt decides as it always did: the same N
     // either way, faster.
+    if (const int from_table = detail::series_terms_from_table(x); from_table > 0)
+        return from_table;
     if (x >= MieRange::x_min && x <= MieRange::x_max_series) {
         const double v = x + 6.0 * detail::cbrt_newton(x, 2) + 2.0;
         const double up = std::ceil(v);

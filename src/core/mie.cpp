@@ -200,19 +200,22 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 // work has no dependency from one n to the next and vectorises:
 //  1. D_n(mx), n = 0..N, by the downward recurrence, cut into parallel lanes
 //     (log_derivative_lanes, from downward_start), or serially when it is short
-//     (log_derivative_serial: the bare chain first, D_n from its stored values afterwards in
-//     a vectorised loop; started from detail::serial_start, which is lower: only as high as
-//     the start error's decay to 1e-16 needs, 42-45 instead of 46-51 at x = 10);
+//     (log_derivative_serial: the bare chain only, on u_n = psi_n(mx)/(mx)^n, whose
+//     recurrence has a real coefficient and so one multiply-add of latency per step; started
+//     from detail::serial_start, which is lower: only as high as the start error's decay to
+//     1e-16 needs, 42-45 instead of 46-51 at x = 10);
 //  2. psi_n(x), chi_n(x), n = 0..N, upward (UpwardRiccati): a serial chain, interleaved
-//     with pass 1 so that its latency is hidden;
-//  3. a_n, b_n and the efficiency sums (coefficient_sums), independent in n;
-//  4. the pair sum of g Q_sca, which needs a_{n-1} next to a_n (pair_sums).
+//     with pass 1 so that its latency is hidden; below x = 128 sin x and cos x without the
+//     libm call (detail::sin_cos_moderate) and N from a table (mie_series_terms);
+//  3. one vector pass (series_sums) for a_n, b_n and all the sums: D_n formed in it from
+//     the stored u_n (or read, after the lanes or a rescaled serial chain), the pair term of
+//     g Q_sca from the previous step's vectors by a shuffle, nothing stored.
 // The arithmetic is written on real and imaginary parts (structure of arrays) because the
-// vectoriser does not see through std::complex, and the reductions use `omp simd` (with
-// -fopenmp-simd: no OpenMP runtime) because without -ffast-math the compiler must not
-// reorder a sum by itself; the reordered partial sums differ from the serial ones by
-// rounding only. Divisions are few (one per D_n, one per pair a_n, b_n), and n/x is a
-// multiplication by 1/x. Buffers are per thread and reused: no allocation per call.
+// vectoriser does not see through std::complex; pass 3 is written in GCC vector types of 4
+// doubles with `width` partial sums per sum (without -ffast-math the compiler must not
+// reorder a sum by itself; the partial sums differ from the serial ones by rounding only).
+// Divisions are few (one per D_n, one per pair a_n, b_n), and n/x is a multiplication by
+// 1/x. Buffers are per thread and reused: no allocation per call.
 // Against the single loop over n that this replaced: 4 to 5 times faster for x >= 1e3
 // (README, "Performance").
 
@@ -587,17 +590,21 @@ HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx inv_z, int start, int n_terms
 // matrix-vector products, the reordering) outweighs their gain over the plain chain.
 constexpr int serial_max_steps = detail::serial_max_top;
 
-// The plain serial recurrence for D_n, n = 0..n_terms, in two passes: the chain itself
-// (psi_{n-1} = a_n psi_n - psi_{n+1}, two multiply-adds of latency per step and nothing else),
-// storing psi_n for n <= n_terms + 1, then D_n = (n+1)/z - psi_{n+1}/psi_n for all n at once
-// in a vectorised loop. Keeping the division and the stores of D_n out of the chain's loop
-// saves about a sixth of a call at x = 10 (the loop was bound by instruction throughput).
+// The plain serial recurrence for D_n, n = 0..n_terms: the chain itself, storing its values
+// for n <= n_terms + 1, from which D_n = (n+1)/z - psi_{n+1}/psi_n is formed off the chain
+// (in series_sums; here only after a rescale in the stored range, returning true then).
+// The chain runs on u_n = psi_n(z)/z^n: psi_{n-1} = a_n psi_n - psi_{n+1}, a_n = (2n+1)/z,
+// becomes u_{n-1} = (2n+1) u_n - z^2 u_{n+1}, so u_n enters through one real multiply-add and
+// the z^2 u_{n+1} part is ready a step early: one multiply-add of latency per step instead of
+// two, with the same instructions; psi_{n+1}/psi_n = z u_{n+1}/u_n. Same start, same
+// stability (only a common factor z^n per order, which D_n does not see), and u_n grows by
+// at most (2n+1) + |z|^2 per step, which the rescaling below covers.
 // The chain is rescaled by `shrink` (an exact power of two) when it grows past `big`,
 // checked every 4 steps and never more than 8 steps apart: 8 steps grow it by at most
-// ((2n+1)/|z| + 1)^8 <= 7722^8 ~ 1e31 here (n <= serial_max_steps, |z| >= n_min
-// small_x_limit = 0.025), so it stays below 3e121, far from overflow also when squared.
-// A rescale inside the stored range, after psi_k is stored, leaves psi_k and psi_{k-1} at
-// different scales; the D_{k-1} of that pair is formed again afterwards with psi_k scaled.
+// ((2n+1) + |z|^2)^8 <= 9409^8 ~ 6e31 here (n, |z| <= serial_max_steps = 96), so it stays
+// below 2e122, far from overflow also when squared.
+// A rescale inside the stored range, after u_k is stored, leaves u_k and u_{k-1} at
+// different scales; the D_{k-1} of that pair is formed again afterwards with u_k scaled.
 HOLDFAST_MIE_INLINE bool log_derivative_serial(cplx z, cplx inv_z, int start, int n_terms,
                                                double* d_re, double* d_im, double* p_re,
                                                double* p_im, const double* tn,
@@ -954,8 +961,8 @@ MieEfficiencies sphere_large(cplx m, double x, int n_terms) {
     // Per-thread buffers, grown to the largest N met so far: no allocation per call.
     thread_local std::vector<double> storage;
     thread_local SeriesWeights weights;
-    // Room for D_n up to lanes * stored_steps <= N + lanes (log_derivative_lanes) and psi_n,
-    // chi_n, a_n, b_n up to N.
+    // Room for D_n up to lanes * stored_steps <= N + lanes (log_derivative_lanes), psi_n,
+    // chi_n up to N and u_n up to N + 1, each with series_sums' `width` padding values.
     const std::size_t stride = static_cast<std::size_t>(n_terms) + lanes + 2;
     if (storage.size() < 6 * stride) storage.resize(6 * stride);
     weights.grow(stride);

@@ -694,8 +694,10 @@ HOLDFAST_MIE_INLINE bool log_derivative_serial(cplx z, cplx inv_z, int start, in
             rescaled_at[rescales++] = n;
         }
     }
-    // Without a rescale in the stored range series_sums forms D_n itself from psi_n, psi_{n+1}.
-    if (rescales == 0) return false;
+    // Without a rescale in the stored range series_sums forms D_n itself from u_n, u_{n+1}.
+    if (rescales == 0) {
+        return false;
+    }
     // D_k = (k+1)/z - z u_{k+1}/u_k, the division as multiplication by the conjugate over
     // |u_k|^2: one real division.
 #pragma omp simd
@@ -783,9 +785,9 @@ HOLDFAST_MIE_INLINE LaneVec shift_in(LaneVec prev, LaneVec cur) {
 // g Q_sca takes a_{n-1}, b_{n-1} from the previous step's vectors by a shuffle, and the last
 // step masks the orders above n_terms (the buffers hold `width` values beyond N, set to 1 so
 // that the masked lanes compute on harmless numbers). D_n(mx) comes from d_re, d_im
-// (from_psi false) or, from_psi true, is formed here from the unnormalised psi_n(mx) of the
-// serial chain in d_re, d_im: D_n = (n+1)/z - psi_{n+1}/psi_n, the division as multiplication
-// by the conjugate over |psi_n|^2. One change from the one-term-at-a-time form, a
+// (from_psi false) or, from_psi true, is formed here from the serial chain's unnormalised
+// u_n = psi_n(z)/z^n, z = mx, passed in d_re, d_im: D_n = (n+1)/z - z u_{n+1}/u_n, the
+// division as multiplication by the conjugate over |u_n|^2. One change from the one-term-at-a-time form, a
 // rounding-level one: the two divisions of a_n, b_n share one reciprocal
 // 1/(|den_a|^2 |den_b|^2); and the sums are `width` partial sums, added at the end.
 template <bool from_psi>
@@ -860,9 +862,9 @@ HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, cplx inv_z, int n_terms, 
         absorbed += w * ab;
         cross += load_lanes(t.w_ab + n) * (ar * br + ai * bi);
         // n(n+2)/(n+1) Re(a_n a*_{n+1} + b_n b*_{n+1}) for the pair (n-1, n).
-        pair += load_lanes(t.w_pair + n) *
-                (shift_in(ar_prev, ar) * ar + shift_in(ai_prev, ai) * ai +
-                 shift_in(br_prev, br) * br + shift_in(bi_prev, bi) * bi);
+        pair +=
+            load_lanes(t.w_pair + n) * (shift_in(ar_prev, ar) * ar + shift_in(ai_prev, ai) * ai +
+                                        shift_in(br_prev, br) * br + shift_in(bi_prev, bi) * bi);
         // (-1)^n is the same in a lane at every step (width is even): applied at the end.
         back_re += w * (ar - br);
         back_im += w * (ai - bi);
@@ -907,8 +909,8 @@ HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_
     };
     bool have_d = true;
     if (serial_top > 0) {
-        have_d = log_derivative_serial(z, inv_z, serial_top, n_terms, d_re, d_im, p_re, p_im,
-                                       t.n, riccati);
+        have_d = log_derivative_serial(z, inv_z, serial_top, n_terms, d_re, d_im, p_re, p_im, t.n,
+                                       riccati);
     } else {
         log_derivative_lanes(inv_z, detail::downward_start(abs_z, n_terms), n_terms, d_re, d_im,
                              riccati);

@@ -137,17 +137,18 @@ inline double cbrt_newton(double v, int steps) {
 // as many instructions as five series terms at x = 10). Cody-Waite reduction r = x - k pi/2
 // with pi/2 in three parts (33 + 33 + 53 bits: k p1 and k p2 are exact for k < 2^20, so r
 // is off by about k 2^-122 < 3e-35 absolute, which keeps it to a relative 1e-16 down to
-// |r| ~ 3e-19; the doubles next to k pi/2 here are much farther from it); then the Taylor series of sin r and cos r to r^17 and
-// r^16 (|r| <= pi/4: the first omitted terms are below 1e-19 and 3e-18), cos as
-// 1 - r^2/2 with the rounding of that step carried (the usual compensated sum).
+// |r| ~ 3e-19; the doubles next to k pi/2 here are much farther from it); then the Taylor
+// series of sin r and cos r to r^17 and r^16 (|r| <= pi/4: the first omitted terms are below
+// 1e-19 and 3e-18), cos as 1 - r^2/2 with the rounding of that step carried (the usual
+// compensated sum).
 // Within 2 ulp of std::sin, std::cos on a fine grid and near every k pi/2 (mie_start_test).
 inline constexpr double moderate_x_limit = 128.0;
 inline void sin_cos_moderate(double x, double& sin_x, double& cos_x) {
     constexpr double two_over_pi = 0.6366197723675814;
-    constexpr double p1 = 0x1.921fb544p+0;           // pi/2, first 33 bits
-    constexpr double p2 = 0x1.0b4611a6p-34;          // next 33 bits
-    constexpr double p3 = 0x1.3198a2e037073p-69;     // the rest, rounded
-    constexpr double round_magic = 0x1.8p52;         // adding it rounds to an integer
+    constexpr double p1 = 0x1.921fb544p+0;       // pi/2, first 33 bits
+    constexpr double p2 = 0x1.0b4611a6p-34;      // next 33 bits
+    constexpr double p3 = 0x1.3198a2e037073p-69; // the rest, rounded
+    constexpr double round_magic = 0x1.8p52;     // adding it rounds to an integer
     const double k = (x * two_over_pi + round_magic) - round_magic;
     const double r = ((x - k * p1) - k * p2) - k * p3;
     const double r2 = r * r;
@@ -156,11 +157,10 @@ inline void sin_cos_moderate(double x, double& sin_x, double& cos_x) {
         -1.0 / 6.0 +
         r2 * (1.0 / 120.0 +
               r2 * (-1.0 / 5040.0 +
-                    r2 * (1.0 / 362880.0 +
-                          r2 * (-1.0 / 39916800.0 +
-                                r2 * (1.0 / 6227020800.0 +
-                                      r2 * (-1.0 / 1307674368000.0 +
-                                            r2 * (1.0 / 355687428096000.0)))))));
+                    r2 * (1.0 / 362880.0 + r2 * (-1.0 / 39916800.0 +
+                                                 r2 * (1.0 / 6227020800.0 +
+                                                       r2 * (-1.0 / 1307674368000.0 +
+                                                             r2 * (1.0 / 355687428096000.0)))))));
     const double c_poly =
         1.0 / 24.0 +
         r2 * (-1.0 / 720.0 +

@@ -787,9 +787,9 @@ HOLDFAST_MIE_INLINE LaneVec shift_in(LaneVec prev, LaneVec cur) {
 // that the masked lanes compute on harmless numbers). D_n(mx) comes from d_re, d_im
 // (from_psi false) or, from_psi true, is formed here from the serial chain's unnormalised
 // u_n = psi_n(z)/z^n, z = mx, passed in d_re, d_im: D_n = (n+1)/z - z u_{n+1}/u_n, the
-// division as multiplication by the conjugate over |u_n|^2. One change from the one-term-at-a-time form, a
-// rounding-level one: the two divisions of a_n, b_n share one reciprocal
-// 1/(|den_a|^2 |den_b|^2); and the sums are `width` partial sums, added at the end.
+// division as multiplication by the conjugate over |u_n|^2. One change from the
+// one-term-at-a-time form, a rounding-level one: the two divisions of a_n, b_n share one
+// reciprocal 1/(|den_a|^2 |den_b|^2); and the sums are `width` partial sums, added at the end.
 template <bool from_psi>
 HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, cplx inv_z, int n_terms, const double* d_re,
                                      const double* d_im, const double* psi, const double* chi,

@@ -188,6 +188,16 @@ TEST_CASE("fast series matches a 50-digit evaluation around the serial D_n start
             compare_with_reference(m, x);
 }
 
+// Below x = 128 (detail::moderate_x_limit) N comes from a table and sin x, cos x from
+// detail::sin_cos_moderate, above it from std::cbrt and libm: sizes on both sides, and at
+// 2.5 where the large-x kernel begins. Same 1e-9 as above.
+TEST_CASE("fast series matches a 50-digit evaluation around x = 128 and 2.5", "[mie][reference]") {
+    const std::complex<double> indices[] = {{1.7, 0.03}, {2.0, 0.6}, {1.33, 0.0}, {0.75, 0.0}};
+    for (const auto m : indices)
+        for (const double x : {2.5, 2.5000001, 127.9, 127.99999999, 128.0, 128.2})
+            compare_with_reference(m, x);
+}
+
 TEST_CASE("fast series matches a 50-digit evaluation, x = 3e3 and 1e4", "[mie][reference][slow]") {
     const std::complex<double> indices[] = {
         {1.33, 1e-5}, {1.7, 0.03}, {2.0, 0.6}, {10.0, 10.0}, {0.75, 0.0}};

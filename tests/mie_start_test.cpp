@@ -98,3 +98,87 @@ TEST_CASE("the serial D_n chain starts high enough for a 1e-16 start error", "[m
     CHECK(checked >= 300);
     CHECK(lanes >= 5);
 }
+
+// The table of mie_series_terms (detail::series_terms_from_table) must give the N of the
+// formula ceil(x + 6 x^(1/3) + 2) with std::cbrt everywhere it answers: N is part of the
+// results (changing it changes the last digits of every efficiency). Expected values: the
+// formula itself, evaluated here; the comparison is exact (integers). Grid: every 1e-5 from
+// 2.5 to 128 (the table's range), and the 64 doubles on each side of every crossing the
+// table holds (where a cube root off by an ulp could flip the ceiling).
+TEST_CASE("series terms from the table equal the std::cbrt formula", "[mie][start]") {
+    using holdfast::detail::series_terms_from_table;
+    const auto formula = [](double x) {
+        return static_cast<int>(std::ceil(x + 6.0 * std::cbrt(x) + 2.0));
+    };
+    long mismatches = 0, answered = 0, checked = 0;
+    const auto check = [&](double x) {
+        const int from_table = series_terms_from_table(x);
+        ++checked;
+        if (from_table == 0) return;
+        ++answered;
+        if (from_table != formula(x)) {
+            ++mismatches;
+            INFO("x = " << x << ": table " << from_table << ", formula " << formula(x));
+            CHECK(from_table == formula(x));
+        }
+        // mie_series_terms agrees whether or not the table answers.
+        if (holdfast::mie_series_terms(x) != formula(x)) ++mismatches;
+    };
+    for (long i = 250000; i < 12800000; ++i)
+        check(static_cast<double>(i) * 1e-5);
+    // On the grid the table answers almost everywhere (the band is 2e-9 wide per crossing).
+    CHECK(answered > checked - checked / 1000);
+    using namespace holdfast::detail::terms_table;
+    for (int cell = first_cell; cell < end_cell; ++cell) {
+        double x = table.crossing[cell];
+        for (int s = 0; s < 64; ++s)
+            x = std::nextafter(x, 0.0);
+        for (int s = 0; s < 129; ++s) {
+            if (x >= holdfast::detail::small_x_limit && x < holdfast::detail::moderate_x_limit)
+                check(x);
+            // Well outside the band the table must answer by itself.
+            CHECK(series_terms_from_table(x + 1e-8) > 0);
+            x = std::nextafter(x, 1e3);
+        }
+    }
+    CHECK(mismatches == 0);
+    CHECK(series_terms_from_table(2.4) == 0);
+    CHECK(series_terms_from_table(128.0) == 0);
+}
+
+// detail::sin_cos_moderate against the C library's sin and cos (glibc's are correctly
+// rounded in practice, from memory: within 0.5 ulp and some more). Tolerance 2 ulp of the
+// larger of |sin x|, |cos x| for the grid, and 2 ulp relative of the small one next to each
+// k pi/2 (where the range reduction's cancellation is worst): the Taylor sums and the
+// reduction round a few times each.
+TEST_CASE("sin and cos without the library call match std::sin, std::cos", "[mie][start]") {
+    using holdfast::detail::sin_cos_moderate;
+    constexpr double ulp = 0x1p-52;
+    double worst_grid = 0.0, worst_small = 0.0;
+    for (long i = 0; i < 1280000; ++i) {
+        const double x = static_cast<double>(i) * 1e-4 + 1e-9 * static_cast<double>(i % 7);
+        double s, c;
+        sin_cos_moderate(x, s, c);
+        REQUIRE(std::isfinite(s));
+        REQUIRE(std::isfinite(c));
+        worst_grid = std::max({worst_grid, std::abs(s - std::sin(x)), std::abs(c - std::cos(x))});
+    }
+    CHECK(worst_grid <= 2.0 * ulp); // |sin|, |cos| <= 1: absolute = relative to the larger
+    for (int k = 1; k < 82; ++k) {
+        double x = static_cast<double>(static_cast<long double>(k) *
+                                       1.5707963267948966192313216916397514L);
+        for (int s = 0; s < 8; ++s)
+            x = std::nextafter(x, 0.0);
+        for (int s = 0; s < 17; ++s) {
+            double sn, cs;
+            sin_cos_moderate(x, sn, cs);
+            const double want = k % 2 == 0 ? std::sin(x) : std::cos(x);
+            const double got = k % 2 == 0 ? sn : cs;
+            INFO("k = " << k << ", x = " << x << ": " << got << " vs " << want);
+            REQUIRE(std::isfinite(got));
+            worst_small = std::max(worst_small, std::abs(got - want) / std::abs(want));
+            x = std::nextafter(x, 1e3);
+        }
+    }
+    CHECK(worst_small <= 2.0 * ulp);
+}

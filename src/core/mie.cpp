@@ -40,6 +40,7 @@
 #include <cstdio>
 #include <cstring>
 #include <numbers>
+#include <type_traits>
 #include <vector>
 
 #include "holdfast/errors.hpp"
@@ -199,19 +200,22 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 // work has no dependency from one n to the next and vectorises:
 //  1. D_n(mx), n = 0..N, by the downward recurrence, cut into parallel lanes
 //     (log_derivative_lanes, from downward_start), or serially when it is short
-//     (log_derivative_serial: the bare chain first, D_n from its stored values afterwards in
-//     a vectorised loop; started from detail::serial_start, which is lower: only as high as
-//     the start error's decay to 1e-16 needs, 42-45 instead of 46-51 at x = 10);
+//     (log_derivative_serial: the bare chain only, on u_n = psi_n(mx)/(mx)^n, whose
+//     recurrence has a real coefficient and so one multiply-add of latency per step; started
+//     from detail::serial_start, which is lower: only as high as the start error's decay to
+//     1e-16 needs, 42-45 instead of 46-51 at x = 10);
 //  2. psi_n(x), chi_n(x), n = 0..N, upward (UpwardRiccati): a serial chain, interleaved
-//     with pass 1 so that its latency is hidden;
-//  3. a_n, b_n and the efficiency sums (coefficient_sums), independent in n;
-//  4. the pair sum of g Q_sca, which needs a_{n-1} next to a_n (pair_sums).
+//     with pass 1 so that its latency is hidden; below x = 128 sin x and cos x without the
+//     libm call (detail::sin_cos_moderate) and N from a table (mie_series_terms);
+//  3. one vector pass (series_sums) for a_n, b_n and all the sums: D_n formed in it from
+//     the stored u_n (or read, after the lanes or a rescaled serial chain), the pair term of
+//     g Q_sca from the previous step's vectors by a shuffle, nothing stored.
 // The arithmetic is written on real and imaginary parts (structure of arrays) because the
-// vectoriser does not see through std::complex, and the reductions use `omp simd` (with
-// -fopenmp-simd: no OpenMP runtime) because without -ffast-math the compiler must not
-// reorder a sum by itself; the reordered partial sums differ from the serial ones by
-// rounding only. Divisions are few (one per D_n, one per pair a_n, b_n), and n/x is a
-// multiplication by 1/x. Buffers are per thread and reused: no allocation per call.
+// vectoriser does not see through std::complex; pass 3 is written in GCC vector types of 4
+// doubles with `width` partial sums per sum (without -ffast-math the compiler must not
+// reorder a sum by itself; the partial sums differ from the serial ones by rounding only).
+// Divisions are few (one per D_n, one per pair a_n, b_n), and n/x is a multiplication by
+// 1/x. Buffers are per thread and reused: no allocation per call.
 // Against the single loop over n that this replaced: 4 to 5 times faster for x >= 1e3
 // (README, "Performance").
 
@@ -239,9 +243,14 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 class UpwardRiccati {
   public:
     UpwardRiccati(double x, int n_terms, double* psi, double* chi)
-        : inv_x_(1.0 / x), n_terms_(n_terms), psi_(psi), chi_(chi) {
-        psi_prev_ = std::sin(x);
-        chi_prev_ = std::cos(x);
+        : inv_x_(1.0 / x), pairs_left_((n_terms - 1) / 2), one_left_((n_terms - 1) % 2 != 0),
+          psi_(psi), chi_(chi) {
+        if (x < detail::moderate_x_limit) {
+            detail::sin_cos_moderate(x, psi_prev_, chi_prev_);
+        } else {
+            psi_prev_ = std::sin(x);
+            chi_prev_ = std::cos(x);
+        }
         psi_n_ = psi_prev_ * inv_x_ - chi_prev_; // psi_1
         chi_n_ = chi_prev_ * inv_x_ + psi_prev_; // chi_1
         psi[0] = psi_prev_;
@@ -249,39 +258,44 @@ class UpwardRiccati {
         psi[1] = psi_n_;
         chi[1] = chi_n_;
     }
-    // From orders (n-1, n) to (n+1, n+2), while n + 2 <= n_terms.
+    // From orders (n-1, n) to (n+1, n+2), while n + 2 <= n_terms. 2n + 1 is carried as a
+    // double (exact) and the pointers advance: no integer conversion per call.
     HOLDFAST_MIE_INLINE void advance_two() {
-        if (n_ + 1 >= n_terms_) return;
-        const double f1 = (2.0 * n_ + 1.0) * inv_x_;
-        const double f2 = (2.0 * n_ + 3.0) * inv_x_;
+        if (pairs_left_ <= 0) return;
+        const double f1 = f_ * inv_x_;
+        const double f2 = (f_ + 2.0) * inv_x_;
         psi_prev_ = f1 * psi_n_ - psi_prev_; // psi_{n+1}
         chi_prev_ = f1 * chi_n_ - chi_prev_;
         psi_n_ = f2 * psi_prev_ - psi_n_; // psi_{n+2}
         chi_n_ = f2 * chi_prev_ - chi_n_;
-        psi_[n_ + 1] = psi_prev_;
-        chi_[n_ + 1] = chi_prev_;
-        psi_[n_ + 2] = psi_n_;
-        chi_[n_ + 2] = chi_n_;
-        n_ += 2;
+        psi_[2] = psi_prev_;
+        chi_[2] = chi_prev_;
+        psi_[3] = psi_n_;
+        chi_[3] = chi_n_;
+        psi_ += 2;
+        chi_ += 2;
+        f_ += 4.0;
+        --pairs_left_;
     }
     // The rest up to n_terms.
     HOLDFAST_MIE_INLINE void finish() {
-        while (n_ + 1 < n_terms_)
+        while (pairs_left_ > 0)
             advance_two();
-        if (n_ < n_terms_) { // one step left: psi_{n+1} from psi_n, psi_{n-1}
-            const double f = (2.0 * n_ + 1.0) * inv_x_;
-            psi_[n_ + 1] = f * psi_n_ - psi_prev_;
-            chi_[n_ + 1] = f * chi_n_ - chi_prev_;
-            n_ = n_terms_;
+        if (one_left_) { // one step left: psi_{n+1} from psi_n, psi_{n-1}
+            const double f = f_ * inv_x_;
+            psi_[2] = f * psi_n_ - psi_prev_;
+            chi_[2] = f * chi_n_ - chi_prev_;
+            one_left_ = false;
         }
     }
 
   private:
     double inv_x_;
-    int n_terms_;
-    double* psi_;
+    int pairs_left_;
+    bool one_left_;
+    double* psi_; // psi_ + n - 1 (and chi_) for the current n
     double* chi_;
-    int n_ = 1;
+    double f_ = 3.0; // 2n + 1 for the current n, from n = 1
     double psi_prev_, chi_prev_, psi_n_, chi_n_;
 };
 
@@ -576,34 +590,44 @@ HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx inv_z, int start, int n_terms
 // matrix-vector products, the reordering) outweighs their gain over the plain chain.
 constexpr int serial_max_steps = detail::serial_max_top;
 
-// The plain serial recurrence for D_n, n = 0..n_terms, in two passes: the chain itself
-// (psi_{n-1} = a_n psi_n - psi_{n+1}, two multiply-adds of latency per step and nothing else),
-// storing psi_n for n <= n_terms + 1, then D_n = (n+1)/z - psi_{n+1}/psi_n for all n at once
-// in a vectorised loop. Keeping the division and the stores of D_n out of the chain's loop
-// saves about a sixth of a call at x = 10 (the loop was bound by instruction throughput).
+// The plain serial recurrence for D_n, n = 0..n_terms: the chain itself, storing its values
+// for n <= n_terms + 1, from which D_n = (n+1)/z - psi_{n+1}/psi_n is formed off the chain
+// (in series_sums; here only after a rescale in the stored range, returning true then).
+// The chain runs on u_n = psi_n(z)/z^n: psi_{n-1} = a_n psi_n - psi_{n+1}, a_n = (2n+1)/z,
+// becomes u_{n-1} = (2n+1) u_n - z^2 u_{n+1}, so u_n enters through one real multiply-add and
+// the z^2 u_{n+1} part is ready a step early: one multiply-add of latency per step instead of
+// two, with the same instructions; psi_{n+1}/psi_n = z u_{n+1}/u_n. Same start, same
+// stability (only a common factor z^n per order, which D_n does not see), and u_n grows by
+// at most (2n+1) + |z|^2 per step, which the rescaling below covers.
 // The chain is rescaled by `shrink` (an exact power of two) when it grows past `big`,
 // checked every 4 steps and never more than 8 steps apart: 8 steps grow it by at most
-// ((2n+1)/|z| + 1)^8 <= 7722^8 ~ 1e31 here (n <= serial_max_steps, |z| >= n_min
-// small_x_limit = 0.025), so it stays below 3e121, far from overflow also when squared.
-// A rescale inside the stored range, after psi_k is stored, leaves psi_k and psi_{k-1} at
-// different scales; the D_{k-1} of that pair is formed again afterwards with psi_k scaled.
-HOLDFAST_MIE_INLINE void log_derivative_serial(cplx inv_z, int start, int n_terms, double* d_re,
-                                               double* d_im, double* p_re, double* p_im,
-                                               const double* tn, UpwardRiccati& riccati) {
+// ((2n+1) + |z|^2)^8 <= 9409^8 ~ 6e31 here (n, |z| <= serial_max_steps = 96), so it stays
+// below 2e122, far from overflow also when squared.
+// A rescale inside the stored range, after u_k is stored, leaves u_k and u_{k-1} at
+// different scales; the D_{k-1} of that pair is formed again afterwards with u_k scaled.
+HOLDFAST_MIE_INLINE bool log_derivative_serial(cplx z, cplx inv_z, int start, int n_terms,
+                                               double* d_re, double* d_im, double* p_re,
+                                               double* p_im, const double* tn,
+                                               UpwardRiccati& riccati) {
     const double iz_re = inv_z.real();
     const double iz_im = inv_z.imag();
+    const double z_re = z.real();
+    const double z_im = z.imag();
+    const cplx z2 = z * z;
+    const double z2_re = z2.real();
+    const double z2_im = z2.imag();
     double up_re = 0.0, up_im = 0.0, cur_re = 1.0, cur_im = 0.0;
     // An even number of steps above the stored range (one more step from above changes
     // nothing but the decay of the arbitrary start).
     int n = start + ((start - n_terms - 1) & 1);
     double f = 2.0 * n + 1.0; // 2n + 1, exact
-    // One step from (psi_{n+1}, psi_n) to (psi_n, psi_{n-1}).
+    // One step from (u_{n+1}, u_n) to (u_n, u_{n-1}), u_{n-1} = (2n+1) u_n - z^2 u_{n+1}.
     const auto step = [&]() {
-        const double a_re = f * iz_re;
-        const double a_im = f * iz_im;
-        // Term order: two multiply-adds in the chain (see transfer_matrices).
-        const double lo_re = a_re * cur_re - up_re - a_im * cur_im;
-        const double lo_im = a_re * cur_im - up_im + a_im * cur_re;
+        // The z^2 u_{n+1} part does not depend on u_n: one multiply-add in the chain.
+        const double t_re = z2_im * up_im - z2_re * up_re;
+        const double t_im = -(z2_re * up_im + z2_im * up_re);
+        const double lo_re = f * cur_re + t_re;
+        const double lo_im = f * cur_im + t_im;
         up_re = cur_re;
         up_im = cur_im;
         cur_re = lo_re;
@@ -670,25 +694,34 @@ HOLDFAST_MIE_INLINE void log_derivative_serial(cplx inv_z, int start, int n_term
             rescaled_at[rescales++] = n;
         }
     }
-    // D_k = (k+1)/z - psi_{k+1}/psi_k, the division as multiplication by the conjugate over
-    // |psi_k|^2: one real division.
+    // Without a rescale in the stored range series_sums forms D_n itself from u_n, u_{n+1}.
+    if (rescales == 0) {
+        return false;
+    }
+    // D_k = (k+1)/z - z u_{k+1}/u_k, the division as multiplication by the conjugate over
+    // |u_k|^2: one real division.
 #pragma omp simd
     for (int k = 0; k <= n_terms; ++k) {
         const double inv = 1.0 / (p_re[k] * p_re[k] + p_im[k] * p_im[k]);
-        d_re[k] = tn[k + 1] * iz_re - (p_re[k + 1] * p_re[k] + p_im[k + 1] * p_im[k]) * inv;
-        d_im[k] = tn[k + 1] * iz_im - (p_im[k + 1] * p_re[k] - p_re[k + 1] * p_im[k]) * inv;
+        const double q_re = (p_re[k + 1] * p_re[k] + p_im[k + 1] * p_im[k]) * inv;
+        const double q_im = (p_im[k + 1] * p_re[k] - p_re[k + 1] * p_im[k]) * inv;
+        d_re[k] = tn[k + 1] * iz_re - (z_re * q_re - z_im * q_im);
+        d_im[k] = tn[k + 1] * iz_im - (z_re * q_im + z_im * q_re);
     }
     for (int i = 0; i < rescales; ++i) {
-        // psi_{k} was stored before the rescale, psi_{k-1} after it: D_{k-1} again.
+        // u_k was stored before the rescale, u_{k-1} after it: D_{k-1} again.
         const int k = rescaled_at[i];
         const double hi_re = p_re[k] * shrink;
         const double hi_im = p_im[k] * shrink;
         const double lo_re = p_re[k - 1];
         const double lo_im = p_im[k - 1];
         const double inv = 1.0 / (lo_re * lo_re + lo_im * lo_im);
-        d_re[k - 1] = tn[k] * iz_re - (hi_re * lo_re + hi_im * lo_im) * inv;
-        d_im[k - 1] = tn[k] * iz_im - (hi_im * lo_re - hi_re * lo_im) * inv;
+        const double q_re = (hi_re * lo_re + hi_im * lo_im) * inv;
+        const double q_im = (hi_im * lo_re - hi_re * lo_im) * inv;
+        d_re[k - 1] = tn[k] * iz_re - (z_re * q_re - z_im * q_im);
+        d_im[k - 1] = tn[k] * iz_im - (z_re * q_im + z_im * q_re);
     }
+    return true;
 }
 
 struct SeriesSums {
@@ -731,78 +764,128 @@ struct WeightTables {
     const double *n, *w, *w_alt, *w_ab, *w_pair;
 };
 
+HOLDFAST_MIE_INLINE LaneVec load_lanes(const double* p) {
+    LaneVec v;
+    std::memcpy(&v, p, sizeof v);
+    return v;
+}
+HOLDFAST_MIE_INLINE double lane_sum(LaneVec v) { return (v[0] + v[1]) + (v[2] + v[3]); }
+// (prev[3], cur[0], cur[1], cur[2]): the values of order n - 1 beside those of order n.
+HOLDFAST_MIE_INLINE LaneVec shift_in(LaneVec prev, LaneVec cur) {
+#if defined(__clang__)
+    return __builtin_shufflevector(prev, cur, 3, 4, 5, 6);
+#else
+    return __builtin_shuffle(prev, cur, LaneBits{3, 4, 5, 6});
+#endif
+}
+
 // a_n, b_n (BH eq. 4.88 through detail::coefficient, written out on real and imaginary parts)
-// into a_re..b_im, and the sums of BH eqs. (4.61), (4.62), (4.74) and section 4.6 except the
-// pair term of g Q_sca. One change from the one-term-at-a-time form, a rounding-level one:
-// the two divisions share one reciprocal 1/(|den_a|^2 |den_b|^2).
-HOLDFAST_MIE_INLINE void coefficient_sums(cplx m, double x, int n_terms, const double* d_re,
-                                          const double* d_im, const double* psi, const double* chi,
-                                          const WeightTables& t, double* a_re, double* a_im,
-                                          double* b_re, double* b_im, SeriesSums& s) {
+// and all the sums of BH eqs. (4.61), (4.62), (4.74) and section 4.6, in one pass over n
+// with `width` orders per step in GCC vector types: nothing is stored, the pair term of
+// g Q_sca takes a_{n-1}, b_{n-1} from the previous step's vectors by a shuffle, and the last
+// step masks the orders above n_terms (the buffers hold `width` values beyond N, set to 1 so
+// that the masked lanes compute on harmless numbers). D_n(mx) comes from d_re, d_im
+// (from_psi false) or, from_psi true, is formed here from the serial chain's unnormalised
+// u_n = psi_n(z)/z^n, z = mx, passed in d_re, d_im: D_n = (n+1)/z - z u_{n+1}/u_n, the
+// division as multiplication by the conjugate over |u_n|^2. One change from the
+// one-term-at-a-time form, a rounding-level one: the two divisions of a_n, b_n share one
+// reciprocal 1/(|den_a|^2 |den_b|^2); and the sums are `width` partial sums, added at the end.
+template <bool from_psi>
+HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, cplx inv_z, int n_terms, const double* d_re,
+                                     const double* d_im, const double* psi, const double* chi,
+                                     const WeightTables& t, SeriesSums& s) {
     const cplx inv_m = 1.0 / m;
     const double m_re = m.real(), m_im = m.imag();
     const double im_re = inv_m.real(), im_im = inv_m.imag();
+    const double iz_re = inv_z.real(), iz_im = inv_z.imag();
+    const double z_re = m_re * x, z_im = m_im * x;
     const double inv_x = 1.0 / x;
-    const double* tn = t.n;
-    const double* w = t.w;
-    const double* w_alt = t.w_alt;
-    const double* w_ab = t.w_ab;
-    double ext = 0.0, sca = 0.0, absorbed = 0.0, cross = 0.0, back_re = 0.0, back_im = 0.0;
-#pragma omp simd reduction(+ : ext, sca, absorbed, cross, back_re, back_im)
-    for (int n = 1; n <= n_terms; ++n) {
-        const double nx = tn[n] * inv_x;
+    const double last = n_terms;
+    LaneVec nd = {1.0, 2.0, 3.0, 4.0};
+    LaneVec ext{}, sca{}, absorbed{}, cross{}, pair{}, back_re{}, back_im{};
+    LaneVec ar_prev{}, ai_prev{}, br_prev{}, bi_prev{}; // a_0 = b_0 = 0
+    const auto step = [&](int n, auto masked) {
+        LaneVec dr, di;
+        if constexpr (from_psi) {
+            const LaneVec pr = load_lanes(d_re + n), pi = load_lanes(d_im + n);
+            const LaneVec qr = load_lanes(d_re + n + 1), qi = load_lanes(d_im + n + 1);
+            const LaneVec inv = 1.0 / (pr * pr + pi * pi);
+            const LaneVec n1 = nd + 1.0;
+            const LaneVec rr = (qr * pr + qi * pi) * inv; // u_{n+1}/u_n
+            const LaneVec ri = (qi * pr - qr * pi) * inv;
+            dr = n1 * iz_re - (z_re * rr - z_im * ri);
+            di = n1 * iz_im - (z_re * ri + z_im * rr);
+        } else {
+            dr = load_lanes(d_re + n);
+            di = load_lanes(d_im + n);
+        }
+        const LaneVec ps = load_lanes(psi + n), ps1 = load_lanes(psi + n - 1);
+        const LaneVec ch = load_lanes(chi + n), ch1 = load_lanes(chi + n - 1);
+        const LaneVec nx = nd * inv_x;
         // G_a = D_n(mx)/m + n/x, G_b = m D_n(mx) + n/x.
-        const double ga_re = d_re[n] * im_re - d_im[n] * im_im + nx;
-        const double ga_im = d_re[n] * im_im + d_im[n] * im_re;
-        const double gb_re = m_re * d_re[n] - m_im * d_im[n] + nx;
-        const double gb_im = m_re * d_im[n] + m_im * d_re[n];
+        const LaneVec ga_re = dr * im_re - di * im_im + nx;
+        const LaneVec ga_im = dr * im_im + di * im_re;
+        const LaneVec gb_re = m_re * dr - m_im * di + nx;
+        const LaneVec gb_im = m_re * di + m_im * dr;
         // P = G psi_n - psi_{n-1} (real psi), Q = G chi_n - chi_{n-1}, den = P - iQ.
-        const double pa_re = ga_re * psi[n] - psi[n - 1];
-        const double pa_im = ga_im * psi[n];
-        const double pb_re = gb_re * psi[n] - psi[n - 1];
-        const double pb_im = gb_im * psi[n];
-        const double da_re = pa_re + ga_im * chi[n];
-        const double da_im = pa_im - (ga_re * chi[n] - chi[n - 1]);
-        const double db_re = pb_re + gb_im * chi[n];
-        const double db_im = pb_im - (gb_re * chi[n] - chi[n - 1]);
-        const double sa = da_re * da_re + da_im * da_im;
-        const double sb = db_re * db_re + db_im * db_im;
-        const double r = 1.0 / (sa * sb);
-        const double ia = sb * r; // 1 / |den_a|^2
-        const double ib = sa * r; // 1 / |den_b|^2
-        const double ar = (pa_re * da_re + pa_im * da_im) * ia;
-        const double ai = (pa_im * da_re - pa_re * da_im) * ia;
-        const double br = (pb_re * db_re + pb_im * db_im) * ib;
-        const double bi = (pb_im * db_re - pb_re * db_im) * ib;
-        a_re[n] = ar;
-        a_im[n] = ai;
-        b_re[n] = br;
-        b_im[n] = bi;
-        ext += w[n] * (ar + br);
-        sca += w[n] * (ar * ar + ai * ai + br * br + bi * bi);
+        const LaneVec pa_re = ga_re * ps - ps1;
+        const LaneVec pa_im = ga_im * ps;
+        const LaneVec pb_re = gb_re * ps - ps1;
+        const LaneVec pb_im = gb_im * ps;
+        const LaneVec da_re = pa_re + ga_im * ch;
+        const LaneVec da_im = pa_im - (ga_re * ch - ch1);
+        const LaneVec db_re = pb_re + gb_im * ch;
+        const LaneVec db_im = pb_im - (gb_re * ch - ch1);
+        const LaneVec sa = da_re * da_re + da_im * da_im;
+        const LaneVec sb = db_re * db_re + db_im * db_im;
+        const LaneVec r = 1.0 / (sa * sb);
+        const LaneVec ia = sb * r; // 1 / |den_a|^2
+        const LaneVec ib = sa * r; // 1 / |den_b|^2
+        LaneVec ar = (pa_re * da_re + pa_im * da_im) * ia;
+        LaneVec ai = (pa_im * da_re - pa_re * da_im) * ia;
+        LaneVec br = (pb_re * db_re + pb_im * db_im) * ib;
+        LaneVec bi = (pb_im * db_re - pb_re * db_im) * ib;
         // Re(c) - |c|^2 = -Im(G) / |den|^2 (Wronskian form, see detail::Coefficient).
-        absorbed += w[n] * (-ga_im * ia - gb_im * ib);
-        cross += w_ab[n] * (ar * br + ai * bi);
-        back_re += w_alt[n] * (ar - br);
-        back_im += w_alt[n] * (ai - bi);
-    }
-    s.ext = ext;
-    s.sca = sca;
-    s.abs = absorbed;
-    s.cross = cross;
-    s.back_re = back_re;
-    s.back_im = back_im;
-}
-
-// The pair term of g Q_sca, for the pair (n-1, n); a_0 = b_0 = 0 are not stored, so n >= 2.
-HOLDFAST_MIE_INLINE double pair_sums(int n_terms, const double* w_pair, const double* a_re,
-                                     const double* a_im, const double* b_re, const double* b_im) {
-    double pair = 0.0;
-#pragma omp simd reduction(+ : pair)
-    for (int n = 2; n <= n_terms; ++n)
-        pair += w_pair[n] * (a_re[n - 1] * a_re[n] + a_im[n - 1] * a_im[n] + b_re[n - 1] * b_re[n] +
-                             b_im[n - 1] * b_im[n]);
-    return pair;
+        LaneVec ab = -ga_im * ia - gb_im * ib;
+        if constexpr (decltype(masked)::value) {
+            const LaneVec zero{};
+            const auto keep = nd <= last;
+            ar = keep ? ar : zero;
+            ai = keep ? ai : zero;
+            br = keep ? br : zero;
+            bi = keep ? bi : zero;
+            ab = keep ? ab : zero;
+        }
+        const LaneVec w = 2.0 * nd + 1.0;
+        ext += w * (ar + br);
+        sca += w * (ar * ar + ai * ai + br * br + bi * bi);
+        absorbed += w * ab;
+        cross += load_lanes(t.w_ab + n) * (ar * br + ai * bi);
+        // n(n+2)/(n+1) Re(a_n a*_{n+1} + b_n b*_{n+1}) for the pair (n-1, n).
+        pair +=
+            load_lanes(t.w_pair + n) * (shift_in(ar_prev, ar) * ar + shift_in(ai_prev, ai) * ai +
+                                        shift_in(br_prev, br) * br + shift_in(bi_prev, bi) * bi);
+        // (-1)^n is the same in a lane at every step (width is even): applied at the end.
+        back_re += w * (ar - br);
+        back_im += w * (ai - bi);
+        ar_prev = ar;
+        ai_prev = ai;
+        br_prev = br;
+        bi_prev = bi;
+        nd += static_cast<double>(width);
+    };
+    int n = 1;
+    for (; n + width - 1 <= n_terms; n += width)
+        step(n, std::false_type{});
+    if (n <= n_terms) step(n, std::true_type{});
+    s.ext = lane_sum(ext);
+    s.sca = lane_sum(sca);
+    s.abs = lane_sum(absorbed);
+    s.cross = lane_sum(cross);
+    s.pair = lane_sum(pair);
+    // (-1)^n in lane k is (-1)^(k+1).
+    s.back_re = (back_re[1] - back_re[0]) + (back_re[3] - back_re[2]);
+    s.back_im = (back_im[1] - back_im[0]) + (back_im[3] - back_im[2]);
 }
 
 HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_terms, double* buf,
@@ -811,25 +894,40 @@ HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_
     double* d_im = buf + stride;
     double* psi = buf + 2 * stride;
     double* chi = buf + 3 * stride;
-    double* a_re = buf + 4 * stride;
-    double* a_im = buf + 5 * stride;
-    double* b_re = buf + 6 * stride;
-    double* b_im = buf + 7 * stride;
+    double* p_re = buf + 4 * stride;
+    double* p_im = buf + 5 * stride;
     const cplx z = m * x;
     const cplx inv_z = 1.0 / z;
     // |z| without std::abs (hypot's care for overflow is not needed here).
     const double abs_z = std::sqrt(z.real() * z.real() + z.imag() * z.imag());
     const int serial_top = detail::serial_start(abs_z, n_terms);
     UpwardRiccati riccati(x, n_terms, psi, chi);
-    if (serial_top > 0)
-        log_derivative_serial(inv_z, serial_top, n_terms, d_re, d_im, a_re, a_im, t.n, riccati);
-    else
+    // series_sums reads `width` - 1 values past N (psi_n, chi_n, D_n) or past N + 1 (psi_n(mx)).
+    const auto pad = [n_terms](double* v, int from) {
+        for (int k = 0; k < width; ++k)
+            v[n_terms + from + k] = 1.0;
+    };
+    bool have_d = true;
+    if (serial_top > 0) {
+        have_d = log_derivative_serial(z, inv_z, serial_top, n_terms, d_re, d_im, p_re, p_im, t.n,
+                                       riccati);
+    } else {
         log_derivative_lanes(inv_z, detail::downward_start(abs_z, n_terms), n_terms, d_re, d_im,
                              riccati);
+    }
     riccati.finish();
+    pad(psi, 1);
+    pad(chi, 1);
     SeriesSums s;
-    coefficient_sums(m, x, n_terms, d_re, d_im, psi, chi, t, a_re, a_im, b_re, b_im, s);
-    s.pair = pair_sums(n_terms, t.w_pair, a_re, a_im, b_re, b_im);
+    if (have_d) {
+        pad(d_re, 1);
+        pad(d_im, 1);
+        series_sums<false>(m, x, inv_z, n_terms, d_re, d_im, psi, chi, t, s);
+    } else {
+        pad(p_re, 2);
+        pad(p_im, 2);
+        series_sums<true>(m, x, inv_z, n_terms, p_re, p_im, psi, chi, t, s);
+    }
 
     // As detail::MieSums::finish.
     MieEfficiencies q;
@@ -865,10 +963,10 @@ MieEfficiencies sphere_large(cplx m, double x, int n_terms) {
     // Per-thread buffers, grown to the largest N met so far: no allocation per call.
     thread_local std::vector<double> storage;
     thread_local SeriesWeights weights;
-    // Room for D_n up to lanes * stored_steps <= N + lanes (log_derivative_lanes) and psi_n,
-    // chi_n, a_n, b_n up to N.
+    // Room for D_n up to lanes * stored_steps <= N + lanes (log_derivative_lanes), psi_n,
+    // chi_n up to N and u_n up to N + 1, each with series_sums' `width` padding values.
     const std::size_t stride = static_cast<std::size_t>(n_terms) + lanes + 2;
-    if (storage.size() < 8 * stride) storage.resize(8 * stride);
+    if (storage.size() < 6 * stride) storage.resize(6 * stride);
     weights.grow(stride);
     const WeightTables t{weights.n.data(), weights.w.data(), weights.w_alt.data(),
                          weights.w_ab.data(), weights.w_pair.data()};
@@ -899,6 +997,8 @@ int mie_series_terms(double x) {
     // by < 3.1e-4); it decides the ceiling unless the sum lies within 1e-3 of an integer (x a
     // perfect cube, say: ~0.2% of all x), where std::cbrt decides as it always did: the same N
     // either way, faster.
+    if (const int from_table = detail::series_terms_from_table(x); from_table > 0)
+        return from_table;
     if (x >= MieRange::x_min && x <= MieRange::x_max_series) {
         const double v = x + 6.0 * detail::cbrt_newton(x, 2) + 2.0;
         const double up = std::ceil(v);

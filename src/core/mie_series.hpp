@@ -133,6 +133,121 @@ inline double cbrt_newton(double v, int steps) {
     return y;
 }
 
+// sin x and cos x for 0 <= x < moderate_x_limit, without the libm call (which costs about
+// as many instructions as five series terms at x = 10). Cody-Waite reduction r = x - k pi/2
+// with pi/2 in three parts (33 + 33 + 53 bits: k p1 and k p2 are exact for k < 2^20, so r
+// is off by about k 2^-122 < 3e-35 absolute, which keeps it to a relative 1e-16 down to
+// |r| ~ 3e-19; the doubles next to k pi/2 here are much farther from it); then the Taylor
+// series of sin r and cos r to r^17 and r^16 (|r| <= pi/4: the first omitted terms are below
+// 1e-19 and 3e-18), cos as 1 - r^2/2 with the rounding of that step carried (the usual
+// compensated sum).
+// Within 2 ulp of std::sin, std::cos on a fine grid and near every k pi/2 (mie_start_test).
+inline constexpr double moderate_x_limit = 128.0;
+inline void sin_cos_moderate(double x, double& sin_x, double& cos_x) {
+    constexpr double two_over_pi = 0.6366197723675814;
+    constexpr double p1 = 0x1.921fb544p+0;       // pi/2, first 33 bits
+    constexpr double p2 = 0x1.0b4611a6p-34;      // next 33 bits
+    constexpr double p3 = 0x1.3198a2e037073p-69; // the rest, rounded
+    constexpr double round_magic = 0x1.8p52;     // adding it rounds to an integer
+    const double k = (x * two_over_pi + round_magic) - round_magic;
+    const double r = ((x - k * p1) - k * p2) - k * p3;
+    const double r2 = r * r;
+    // 1/(2j+1)! and 1/(2j)! with alternating signs, from r^3 and r^4 on.
+    const double s_poly =
+        -1.0 / 6.0 +
+        r2 * (1.0 / 120.0 +
+              r2 * (-1.0 / 5040.0 +
+                    r2 * (1.0 / 362880.0 + r2 * (-1.0 / 39916800.0 +
+                                                 r2 * (1.0 / 6227020800.0 +
+                                                       r2 * (-1.0 / 1307674368000.0 +
+                                                             r2 * (1.0 / 355687428096000.0)))))));
+    const double c_poly =
+        1.0 / 24.0 +
+        r2 * (-1.0 / 720.0 +
+              r2 * (1.0 / 40320.0 +
+                    r2 * (-1.0 / 3628800.0 +
+                          r2 * (1.0 / 479001600.0 +
+                                r2 * (-1.0 / 87178291200.0 + r2 * (1.0 / 20922789888000.0))))));
+    const double s = r + r * r2 * s_poly;
+    const double half = 0.5 * r2;
+    const double w = 1.0 - half;
+    const double c = w + (((1.0 - w) - half) + r2 * r2 * c_poly);
+    switch (static_cast<int>(k) & 3) {
+    case 0:
+        sin_x = s;
+        cos_x = c;
+        break;
+    case 1:
+        sin_x = c;
+        cos_x = -s;
+        break;
+    case 2:
+        sin_x = -s;
+        cos_x = -c;
+        break;
+    default:
+        sin_x = -c;
+        cos_x = s;
+        break;
+    }
+}
+
+// N = ceil(x + 6 x^(1/3) + 2) (mie_series_terms) for small_x_limit <= x < moderate_x_limit
+// from a table in cells of 1/4 in x: over one cell x + 6 x^(1/3) + 2 grows by less than 0.53,
+// so at most one integer K - 1 is crossed; the table holds K (N at the cell's end) and the x
+// where K - 1 is crossed. Computed at compile time with a constexpr cube root (a few ulp);
+// the caller decides with std::cbrt where x lies within 1e-9 of that crossing, so the result
+// is the std::cbrt one everywhere (checked on a fine grid and next to every crossing in
+// mie_start_test).
+namespace terms_table {
+inline constexpr int cells_per_unit = 4;
+inline constexpr int first_cell = static_cast<int>(small_x_limit * cells_per_unit);
+inline constexpr int end_cell = static_cast<int>(moderate_x_limit * cells_per_unit);
+inline constexpr double band = 1e-9;
+constexpr double cbrt_of(double v) { // v >= 1: Newton from above converges monotonically
+    double y = v;
+    for (int i = 0; i < 200; ++i)
+        y -= (y * y * y - v) / (3.0 * y * y);
+    return y;
+}
+constexpr double ceil_of(double v) {
+    const auto i = static_cast<long long>(v);
+    return static_cast<double>(i) < v ? static_cast<double>(i + 1) : static_cast<double>(i);
+}
+// x where x + 6 x^(1/3) + 2 = target: t^3 + 6 t + 2 = target for t = x^(1/3), by Newton from
+// above (increasing and convex for t > 0).
+constexpr double crossing(double target) {
+    double t = 8.0;
+    for (int i = 0; i < 200; ++i)
+        t -= (t * t * t + 6.0 * t + 2.0 - target) / (3.0 * t * t + 6.0);
+    return t * t * t;
+}
+struct Table {
+    double crossing[end_cell];
+    std::uint8_t terms_at_end[end_cell];
+};
+constexpr Table make() {
+    Table t{};
+    for (int i = first_cell; i < end_cell; ++i) {
+        const double x1 = static_cast<double>(i + 1) / cells_per_unit;
+        const double k = ceil_of(x1 + 6.0 * cbrt_of(x1) + 2.0);
+        t.terms_at_end[i] = static_cast<std::uint8_t>(k);
+        t.crossing[i] = crossing(k - 1.0);
+    }
+    return t;
+}
+inline constexpr Table table = make();
+} // namespace terms_table
+
+// The table's N, or 0 where it does not decide (x outside its cells, or within its band).
+inline int series_terms_from_table(double x) {
+    if (!(x >= small_x_limit && x < moderate_x_limit)) return 0;
+    const int cell = static_cast<int>(x * terms_table::cells_per_unit);
+    const double at = terms_table::table.crossing[cell];
+    if (std::abs(x - at) < terms_table::band) return 0;
+    return terms_table::table.terms_at_end[cell] - (x <= at ? 1 : 0);
+}
+
 inline int downward_start(double abs_z, int n_terms) {
     // The margin needs no more than a few digits of |z|^(1/3) (2 Newton steps: 1e-6).
     const double above = std::ceil(abs_z + 5.0 * cbrt_newton(abs_z, 2));

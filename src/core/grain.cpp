@@ -237,20 +237,30 @@ Time poynting_robertson_time(Mass star_mass, Length distance, double beta_value)
 
 // ---- blow-out search ---------------------------------------------------------------------
 
+namespace {
+// The scan grid both radius searches take: at least 2 positive, increasing radii, each with a
+// finite value. The messages are the caller's.
+void check_scan_grid(std::span<const double> radii_um, std::span<const double> values,
+                     const char* too_few, const char* value_name, const char* not_increasing) {
+    const std::size_t n = radii_um.size();
+    if (n < 2 || values.size() != n) throw InputError(too_few);
+    for (std::size_t i = 0; i < n; ++i) {
+        require_positive(radii_um[i], "a grain radius");
+        if (!std::isfinite(values[i]))
+            throw NumericalError(value_name + num(radii_um[i]) + " um is not finite");
+        if (i > 0 && !(radii_um[i] > radii_um[i - 1])) throw InputError(not_increasing);
+    }
+}
+} // namespace
+
 BlowoutSearch search_beta_curve(const std::function<double(double radius_um)>& beta_at_um,
                                 std::span<const double> scan_radii_um,
                                 std::span<const double> scan_beta, double beta_crit,
                                 const BlowoutSearchSettings& settings) {
     const std::size_t n = scan_radii_um.size();
-    if (n < 2 || scan_beta.size() != n)
-        throw InputError("the blow-out search needs at least 2 radii, each with its beta");
-    for (std::size_t i = 0; i < n; ++i) {
-        require_positive(scan_radii_um[i], "a grain radius");
-        if (!std::isfinite(scan_beta[i]))
-            throw NumericalError("beta at " + num(scan_radii_um[i]) + " um is not finite");
-        if (i > 0 && !(scan_radii_um[i] > scan_radii_um[i - 1]))
-            throw InputError("the grain radii of the blow-out search must increase");
-    }
+    check_scan_grid(scan_radii_um, scan_beta,
+                    "the blow-out search needs at least 2 radii, each with its beta", "beta at ",
+                    "the grain radii of the blow-out search must increase");
     if (!std::isfinite(beta_crit) || !(beta_crit > 0.0))
         throw InputError("the critical beta must be positive, got " + num(beta_crit));
     if (!(settings.radius_relative_tolerance > 0.0))
@@ -551,16 +561,9 @@ RadiusIntervals positive_radius_intervals(const std::function<double(double radi
                                           std::span<const double> scan_margin,
                                           const BlowoutSearchSettings& settings) {
     const std::size_t n = scan_radii_um.size();
-    if (n < 2 || scan_margin.size() != n)
-        throw InputError("the radius search needs at least 2 radii, each with its value");
-    for (std::size_t i = 0; i < n; ++i) {
-        require_positive(scan_radii_um[i], "a grain radius");
-        if (!std::isfinite(scan_margin[i]))
-            throw NumericalError("the searched function at " + num(scan_radii_um[i]) +
-                                 " um is not finite");
-        if (i > 0 && !(scan_radii_um[i] > scan_radii_um[i - 1]))
-            throw InputError("the grain radii of the search must increase");
-    }
+    check_scan_grid(scan_radii_um, scan_margin,
+                    "the radius search needs at least 2 radii, each with its value",
+                    "the searched function at ", "the grain radii of the search must increase");
     if (!(settings.radius_relative_tolerance > 0.0))
         throw InputError("the radius tolerance must be positive");
     LogCallback cb;

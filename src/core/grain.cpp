@@ -543,14 +543,24 @@ std::optional<Length> GrainTemperatureModel::sublimation_distance(Temperature t_
                                           planck_(t_sub.value()));
 }
 
-double sublimation_margin(Power luminosity, Length star_radius, Length distance,
-                          double qabs_star_mean, Temperature sublimation_temperature,
-                          double qabs_planck_mean_at_sublimation) {
+namespace {
+// The arguments both sublimation functions take, each required positive.
+void check_sublimation_inputs(Power luminosity, double qabs_star_mean,
+                              Temperature sublimation_temperature,
+                              double qabs_planck_mean_at_sublimation) {
     require_positive(luminosity.value(), "the luminosity");
     require_positive(qabs_star_mean, "the grain's mean absorption efficiency in starlight");
     require_positive(sublimation_temperature.value(), "the sublimation temperature");
     require_positive(qabs_planck_mean_at_sublimation,
                      "the grain's Planck-mean absorption efficiency");
+}
+} // namespace
+
+double sublimation_margin(Power luminosity, Length star_radius, Length distance,
+                          double qabs_star_mean, Temperature sublimation_temperature,
+                          double qabs_planck_mean_at_sublimation) {
+    check_sublimation_inputs(luminosity, qabs_star_mean, sublimation_temperature,
+                             qabs_planck_mean_at_sublimation);
     const double t = sublimation_temperature.value();
     return std::log(absorbed_side_K4(luminosity, star_radius, distance, qabs_star_mean)) -
            std::log(t * t * t * t * qabs_planck_mean_at_sublimation);
@@ -607,12 +617,9 @@ std::optional<Length> sublimation_distance(Power luminosity, Length star_radius,
                                            double qabs_star_mean,
                                            Temperature sublimation_temperature,
                                            double qabs_planck_mean_at_sublimation) {
-    require_positive(luminosity.value(), "the luminosity");
+    check_sublimation_inputs(luminosity, qabs_star_mean, sublimation_temperature,
+                             qabs_planck_mean_at_sublimation);
     require_positive(star_radius.value(), "the stellar radius");
-    require_positive(qabs_star_mean, "the grain's mean absorption efficiency in starlight");
-    require_positive(sublimation_temperature.value(), "the sublimation temperature");
-    require_positive(qabs_planck_mean_at_sublimation,
-                     "the grain's Planck-mean absorption efficiency");
     const double t = sublimation_temperature.value();
     const double big_r = star_radius.value();
     // The balance of equilibrium_temperature with D (r/R) written out: with u = (R/r)^2,

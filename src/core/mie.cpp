@@ -207,9 +207,10 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 //  2. psi_n(x), chi_n(x), n = 0..N, upward (UpwardRiccati): a serial chain, interleaved
 //     with pass 1 so that its latency is hidden; below x = 128 sin x and cos x without the
 //     libm call (detail::sin_cos_moderate) and N from a table (mie_series_terms);
-//  3. one vector pass (series_sums) for a_n, b_n and all the sums: D_n formed in it from
-//     the stored u_n (or read, after the lanes or a rescaled serial chain), the pair term of
-//     g Q_sca from the previous step's vectors by a shuffle, nothing stored.
+//  3. vector passes (series_sums) over rounds of 64 orders: G_a, G_b from D_n (formed from
+//     the stored u_n, or read after the lanes or a rescaled serial chain), then a_n, b_n,
+//     then all the sums; the pair term of g Q_sca from the previous step's vectors by a
+//     shuffle.
 // The arithmetic is written on real and imaginary parts (structure of arrays) because the
 // vectoriser does not see through std::complex; pass 3 is written in GCC vector types of 4
 // doubles with `width` partial sums per sum (without -ffast-math the compiler must not
@@ -735,7 +736,6 @@ struct SeriesSums {
 struct SeriesWeights {
     std::vector<double> n;      // n
     std::vector<double> w;      // 2n + 1, BH eqs. (4.61), (4.62)
-    std::vector<double> w_alt;  // (-1)^n (2n + 1), backscattering (BH section 4.6)
     std::vector<double> w_ab;   // (2n + 1)/(n(n + 1)), Re(a_n b_n*) in BH eq. (4.74)
     std::vector<double> w_pair; // (n - 1)(n + 1)/n, Re(a_{n-1} a_n* + b_{n-1} b_n*), (4.74)
 
@@ -743,16 +743,14 @@ struct SeriesWeights {
         if (n.size() >= size) return;
         n.resize(size);
         w.resize(size);
-        w_alt.resize(size);
         w_ab.resize(size);
         w_pair.resize(size);
-        n[0] = w[0] = w_alt[0] = w_ab[0] = w_pair[0] = 0.0; // no n = 0 term
+        n[0] = w[0] = w_ab[0] = w_pair[0] = 0.0; // no n = 0 term
         for (std::size_t i = 1; i < size; ++i) {
             const double dn = static_cast<double>(i);
             const double inv = 1.0 / (dn * (dn + 1.0));
             n[i] = dn;
             w[i] = 2.0 * dn + 1.0;
-            w_alt[i] = i % 2 == 1 ? -w[i] : w[i];
             w_ab[i] = w[i] * inv;
             w_pair[i] = (dn - 1.0) * (dn + 1.0) * (dn + 1.0) * inv;
         }
@@ -761,7 +759,7 @@ struct SeriesWeights {
 
 // Pointers into SeriesWeights for the kernel (plain pointers: no aliasing questions).
 struct WeightTables {
-    const double *n, *w, *w_alt, *w_ab, *w_pair;
+    const double *n, *w, *w_ab, *w_pair;
 };
 
 HOLDFAST_MIE_INLINE LaneVec load_lanes(const double* p) {
@@ -769,6 +767,7 @@ HOLDFAST_MIE_INLINE LaneVec load_lanes(const double* p) {
     std::memcpy(&v, p, sizeof v);
     return v;
 }
+HOLDFAST_MIE_INLINE void store_lanes(double* p, LaneVec v) { std::memcpy(p, &v, sizeof v); }
 HOLDFAST_MIE_INLINE double lane_sum(LaneVec v) { return (v[0] + v[1]) + (v[2] + v[3]); }
 // (prev[3], cur[0], cur[1], cur[2]): the values of order n - 1 beside those of order n.
 HOLDFAST_MIE_INLINE LaneVec shift_in(LaneVec prev, LaneVec cur) {
@@ -779,17 +778,31 @@ HOLDFAST_MIE_INLINE LaneVec shift_in(LaneVec prev, LaneVec cur) {
 #endif
 }
 
+// Orders per round of series_sums' three passes (a multiple of `width`): the passes hand
+// their results on through buffers of 9 doubles per order (4.6 KiB), which stay in the
+// first-level cache at every N.
+constexpr int chunk_orders = 64;
+
 // a_n, b_n (BH eq. 4.88 through detail::coefficient, written out on real and imaginary parts)
-// and all the sums of BH eqs. (4.61), (4.62), (4.74) and section 4.6, in one pass over n
-// with `width` orders per step in GCC vector types: nothing is stored, the pair term of
-// g Q_sca takes a_{n-1}, b_{n-1} from the previous step's vectors by a shuffle, and the last
-// step masks the orders above n_terms (the buffers hold `width` values beyond N, set to 1 so
-// that the masked lanes compute on harmless numbers). D_n(mx) comes from d_re, d_im
-// (from_psi false) or, from_psi true, is formed here from the serial chain's unnormalised
-// u_n = psi_n(z)/z^n, z = mx, passed in d_re, d_im: D_n = (n+1)/z - z u_{n+1}/u_n, the
-// division as multiplication by the conjugate over |u_n|^2. One change from the
-// one-term-at-a-time form, a rounding-level one: the two divisions of a_n, b_n share one
-// reciprocal 1/(|den_a|^2 |den_b|^2); and the sums are `width` partial sums, added at the end.
+// and all the sums of BH eqs. (4.61), (4.62), (4.74) and section 4.6, `width` orders per
+// step in GCC vector types, in three passes over each round of chunk_orders orders:
+//  1. G_a = D_n(mx)/m + n/x and G_b = m D_n(mx) + n/x. D_n comes from d_re, d_im
+//     (from_psi false) or, from_psi true, is formed here from the serial chain's
+//     unnormalised u_n = psi_n(z)/z^n, z = mx, passed in d_re, d_im:
+//     D_n = (n+1)/z - z u_{n+1}/u_n, the division as multiplication by the conjugate over
+//     |u_n|^2;
+//  2. a_n, b_n and the absorption term Re(c) - |c|^2 of each (see detail::Coefficient);
+//  3. the sums; the pair term of g Q_sca takes a_{n-1}, b_{n-1} from the previous step's
+//     vectors by a shuffle.
+// One pass per stage rather than one loop doing all three: the chain of dependent
+// operations from u_n to a sum is some 150 cycles long, and in one loop the processor's
+// scheduler holds about one step of it, so the steps barely overlap; each pass alone has a
+// short chain per step and its steps overlap (at x = 10 a call took 0.84 of the one-loop
+// time; README, "Performance"). The orders above n_terms in the last step (the buffers hold
+// `width` values beyond N, set to 1 so that they compute on harmless numbers) are set to
+// zero after pass 2. Two changes from the one-term-at-a-time form, both at rounding level:
+// the two divisions of a_n, b_n share one reciprocal 1/(|den_a|^2 |den_b|^2), and the sums
+// are `width` partial sums, added at the end.
 template <bool from_psi>
 HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, cplx inv_z, int n_terms, const double* d_re,
                                      const double* d_im, const double* psi, const double* chi,
@@ -800,84 +813,98 @@ HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, cplx inv_z, int n_terms, 
     const double iz_re = inv_z.real(), iz_im = inv_z.imag();
     const double z_re = m_re * x, z_im = m_im * x;
     const double inv_x = 1.0 / x;
-    const double last = n_terms;
-    LaneVec nd = {1.0, 2.0, 3.0, 4.0};
+    // Per step of `width` orders: G_a (re, im), G_b (re, im) in `gain`; a (re, im),
+    // b (re, im) and the absorption term in `coef`; each as one vector.
+    constexpr int gain_stride = 4 * width;
+    constexpr int coef_stride = 5 * width;
+    alignas(32) double gain[chunk_orders / width * gain_stride];
+    alignas(32) double coef[chunk_orders / width * coef_stride];
     LaneVec ext{}, sca{}, absorbed{}, cross{}, pair{}, back_re{}, back_im{};
     LaneVec ar_prev{}, ai_prev{}, br_prev{}, bi_prev{}; // a_0 = b_0 = 0
-    const auto step = [&](int n, auto masked) {
-        LaneVec dr, di;
-        if constexpr (from_psi) {
-            const LaneVec pr = load_lanes(d_re + n), pi = load_lanes(d_im + n);
-            const LaneVec qr = load_lanes(d_re + n + 1), qi = load_lanes(d_im + n + 1);
-            const LaneVec inv = 1.0 / (pr * pr + pi * pi);
-            const LaneVec n1 = nd + 1.0;
-            const LaneVec rr = (qr * pr + qi * pi) * inv; // u_{n+1}/u_n
-            const LaneVec ri = (qi * pr - qr * pi) * inv;
-            dr = n1 * iz_re - (z_re * rr - z_im * ri);
-            di = n1 * iz_im - (z_re * ri + z_im * rr);
-        } else {
-            dr = load_lanes(d_re + n);
-            di = load_lanes(d_im + n);
+    for (int first = 1; first <= n_terms; first += chunk_orders) {
+        const int end = std::min(first + chunk_orders, n_terms + 1); // orders first..end-1
+        // 1. G_a, G_b.
+        for (int n = first; n < end; n += width) {
+            const LaneVec nd = load_lanes(t.n + n);
+            LaneVec dr, di;
+            if constexpr (from_psi) {
+                const LaneVec pr = load_lanes(d_re + n), pi = load_lanes(d_im + n);
+                const LaneVec qr = load_lanes(d_re + n + 1), qi = load_lanes(d_im + n + 1);
+                const LaneVec inv = 1.0 / (pr * pr + pi * pi);
+                const LaneVec n1 = nd + 1.0;
+                const LaneVec rr = (qr * pr + qi * pi) * inv; // u_{n+1}/u_n
+                const LaneVec ri = (qi * pr - qr * pi) * inv;
+                dr = n1 * iz_re - (z_re * rr - z_im * ri);
+                di = n1 * iz_im - (z_re * ri + z_im * rr);
+            } else {
+                dr = load_lanes(d_re + n);
+                di = load_lanes(d_im + n);
+            }
+            const LaneVec nx = nd * inv_x;
+            double* g = gain + (n - first) / width * gain_stride;
+            store_lanes(g, dr * im_re - di * im_im + nx);           // G_a
+            store_lanes(g + width, dr * im_im + di * im_re);        //
+            store_lanes(g + 2 * width, m_re * dr - m_im * di + nx); // G_b
+            store_lanes(g + 3 * width, m_re * di + m_im * dr);      //
         }
-        const LaneVec ps = load_lanes(psi + n), ps1 = load_lanes(psi + n - 1);
-        const LaneVec ch = load_lanes(chi + n), ch1 = load_lanes(chi + n - 1);
-        const LaneVec nx = nd * inv_x;
-        // G_a = D_n(mx)/m + n/x, G_b = m D_n(mx) + n/x.
-        const LaneVec ga_re = dr * im_re - di * im_im + nx;
-        const LaneVec ga_im = dr * im_im + di * im_re;
-        const LaneVec gb_re = m_re * dr - m_im * di + nx;
-        const LaneVec gb_im = m_re * di + m_im * dr;
-        // P = G psi_n - psi_{n-1} (real psi), Q = G chi_n - chi_{n-1}, den = P - iQ.
-        const LaneVec pa_re = ga_re * ps - ps1;
-        const LaneVec pa_im = ga_im * ps;
-        const LaneVec pb_re = gb_re * ps - ps1;
-        const LaneVec pb_im = gb_im * ps;
-        const LaneVec da_re = pa_re + ga_im * ch;
-        const LaneVec da_im = pa_im - (ga_re * ch - ch1);
-        const LaneVec db_re = pb_re + gb_im * ch;
-        const LaneVec db_im = pb_im - (gb_re * ch - ch1);
-        const LaneVec sa = da_re * da_re + da_im * da_im;
-        const LaneVec sb = db_re * db_re + db_im * db_im;
-        const LaneVec r = 1.0 / (sa * sb);
-        const LaneVec ia = sb * r; // 1 / |den_a|^2
-        const LaneVec ib = sa * r; // 1 / |den_b|^2
-        LaneVec ar = (pa_re * da_re + pa_im * da_im) * ia;
-        LaneVec ai = (pa_im * da_re - pa_re * da_im) * ia;
-        LaneVec br = (pb_re * db_re + pb_im * db_im) * ib;
-        LaneVec bi = (pb_im * db_re - pb_re * db_im) * ib;
-        // Re(c) - |c|^2 = -Im(G) / |den|^2 (Wronskian form, see detail::Coefficient).
-        LaneVec ab = -ga_im * ia - gb_im * ib;
-        if constexpr (decltype(masked)::value) {
-            const LaneVec zero{};
-            const auto keep = nd <= last;
-            ar = keep ? ar : zero;
-            ai = keep ? ai : zero;
-            br = keep ? br : zero;
-            bi = keep ? bi : zero;
-            ab = keep ? ab : zero;
+        // 2. a_n, b_n.
+        for (int n = first; n < end; n += width) {
+            const double* g = gain + (n - first) / width * gain_stride;
+            const LaneVec ga_re = load_lanes(g), ga_im = load_lanes(g + width);
+            const LaneVec gb_re = load_lanes(g + 2 * width), gb_im = load_lanes(g + 3 * width);
+            const LaneVec ps = load_lanes(psi + n), ps1 = load_lanes(psi + n - 1);
+            const LaneVec ch = load_lanes(chi + n), ch1 = load_lanes(chi + n - 1);
+            // P = G psi_n - psi_{n-1} (real psi), Q = G chi_n - chi_{n-1}, den = P - iQ.
+            const LaneVec pa_re = ga_re * ps - ps1;
+            const LaneVec pa_im = ga_im * ps;
+            const LaneVec pb_re = gb_re * ps - ps1;
+            const LaneVec pb_im = gb_im * ps;
+            const LaneVec da_re = pa_re + ga_im * ch;
+            const LaneVec da_im = pa_im - (ga_re * ch - ch1);
+            const LaneVec db_re = pb_re + gb_im * ch;
+            const LaneVec db_im = pb_im - (gb_re * ch - ch1);
+            const LaneVec sa = da_re * da_re + da_im * da_im;
+            const LaneVec sb = db_re * db_re + db_im * db_im;
+            const LaneVec r = 1.0 / (sa * sb);
+            const LaneVec ia = sb * r; // 1 / |den_a|^2
+            const LaneVec ib = sa * r; // 1 / |den_b|^2
+            double* c = coef + (n - first) / width * coef_stride;
+            store_lanes(c, (pa_re * da_re + pa_im * da_im) * ia);         // Re a_n
+            store_lanes(c + width, (pa_im * da_re - pa_re * da_im) * ia); // Im a_n
+            store_lanes(c + 2 * width, (pb_re * db_re + pb_im * db_im) * ib);
+            store_lanes(c + 3 * width, (pb_im * db_re - pb_re * db_im) * ib);
+            // Re(c) - |c|^2 = -Im(G) / |den|^2 (Wronskian form, see detail::Coefficient).
+            store_lanes(c + 4 * width, -ga_im * ia - gb_im * ib);
         }
-        const LaneVec w = 2.0 * nd + 1.0;
-        ext += w * (ar + br);
-        sca += w * (ar * ar + ai * ai + br * br + bi * bi);
-        absorbed += w * ab;
-        cross += load_lanes(t.w_ab + n) * (ar * br + ai * bi);
-        // n(n+2)/(n+1) Re(a_n a*_{n+1} + b_n b*_{n+1}) for the pair (n-1, n).
-        pair +=
-            load_lanes(t.w_pair + n) * (shift_in(ar_prev, ar) * ar + shift_in(ai_prev, ai) * ai +
-                                        shift_in(br_prev, br) * br + shift_in(bi_prev, bi) * bi);
-        // (-1)^n is the same in a lane at every step (width is even): applied at the end.
-        back_re += w * (ar - br);
-        back_im += w * (ai - bi);
-        ar_prev = ar;
-        ai_prev = ai;
-        br_prev = br;
-        bi_prev = bi;
-        nd += static_cast<double>(width);
-    };
-    int n = 1;
-    for (; n + width - 1 <= n_terms; n += width)
-        step(n, std::false_type{});
-    if (n <= n_terms) step(n, std::true_type{});
+        // The orders past N in the last step contribute nothing.
+        for (int n = n_terms + 1; n < first + (end - first + width - 1) / width * width; ++n) {
+            double* c = coef + (n - first) / width * coef_stride + (n - first) % width;
+            for (int part = 0; part < 5; ++part)
+                c[part * width] = 0.0;
+        }
+        // 3. The sums.
+        for (int n = first; n < end; n += width) {
+            const double* c = coef + (n - first) / width * coef_stride;
+            const LaneVec ar = load_lanes(c), ai = load_lanes(c + width);
+            const LaneVec br = load_lanes(c + 2 * width), bi = load_lanes(c + 3 * width);
+            const LaneVec w = load_lanes(t.w + n);
+            ext += w * (ar + br);
+            sca += w * (ar * ar + ai * ai + br * br + bi * bi);
+            absorbed += w * load_lanes(c + 4 * width);
+            cross += load_lanes(t.w_ab + n) * (ar * br + ai * bi);
+            // n(n+2)/(n+1) Re(a_n a*_{n+1} + b_n b*_{n+1}) for the pair (n-1, n).
+            pair += load_lanes(t.w_pair + n) *
+                    (shift_in(ar_prev, ar) * ar + shift_in(ai_prev, ai) * ai +
+                     shift_in(br_prev, br) * br + shift_in(bi_prev, bi) * bi);
+            // (-1)^n is the same in a lane at every step (width is even): applied at the end.
+            back_re += w * (ar - br);
+            back_im += w * (ai - bi);
+            ar_prev = ar;
+            ai_prev = ai;
+            br_prev = br;
+            bi_prev = bi;
+        }
+    }
     s.ext = lane_sum(ext);
     s.sca = lane_sum(sca);
     s.abs = lane_sum(absorbed);
@@ -968,8 +995,8 @@ MieEfficiencies sphere_large(cplx m, double x, int n_terms) {
     const std::size_t stride = static_cast<std::size_t>(n_terms) + lanes + 2;
     if (storage.size() < 6 * stride) storage.resize(6 * stride);
     weights.grow(stride);
-    const WeightTables t{weights.n.data(), weights.w.data(), weights.w_alt.data(),
-                         weights.w_ab.data(), weights.w_pair.data()};
+    const WeightTables t{weights.n.data(), weights.w.data(), weights.w_ab.data(),
+                         weights.w_pair.data()};
 #if HOLDFAST_MIE_MULTIVERSION
     if (__builtin_cpu_supports("x86-64-v4"))
         return sphere_large_v4(m, x, n_terms, storage.data(), stride, t);

@@ -822,9 +822,10 @@ HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, cplx inv_z, int n_terms, 
     LaneVec ext{}, sca{}, absorbed{}, cross{}, pair{}, back_re{}, back_im{};
     LaneVec ar_prev{}, ai_prev{}, br_prev{}, bi_prev{}; // a_0 = b_0 = 0
     for (int first = 1; first <= n_terms; first += chunk_orders) {
-        const int end = std::min(first + chunk_orders, n_terms + 1); // orders first..end-1
+        // Steps of `width` orders from `first` on, the last possibly past N.
+        const int steps = (std::min(chunk_orders, n_terms + 1 - first) + width - 1) / width;
         // 1. G_a, G_b.
-        for (int n = first; n < end; n += width) {
+        for (int i = 0, n = first; i < steps; ++i, n += width) {
             const LaneVec nd = load_lanes(t.n + n);
             LaneVec dr, di;
             if constexpr (from_psi) {
@@ -841,15 +842,15 @@ HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, cplx inv_z, int n_terms, 
                 di = load_lanes(d_im + n);
             }
             const LaneVec nx = nd * inv_x;
-            double* g = gain + (n - first) / width * gain_stride;
+            double* g = gain + i * gain_stride;
             store_lanes(g, dr * im_re - di * im_im + nx);           // G_a
             store_lanes(g + width, dr * im_im + di * im_re);        //
             store_lanes(g + 2 * width, m_re * dr - m_im * di + nx); // G_b
             store_lanes(g + 3 * width, m_re * di + m_im * dr);      //
         }
         // 2. a_n, b_n.
-        for (int n = first; n < end; n += width) {
-            const double* g = gain + (n - first) / width * gain_stride;
+        for (int i = 0, n = first; i < steps; ++i, n += width) {
+            const double* g = gain + i * gain_stride;
             const LaneVec ga_re = load_lanes(g), ga_im = load_lanes(g + width);
             const LaneVec gb_re = load_lanes(g + 2 * width), gb_im = load_lanes(g + 3 * width);
             const LaneVec ps = load_lanes(psi + n), ps1 = load_lanes(psi + n - 1);
@@ -868,7 +869,7 @@ HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, cplx inv_z, int n_terms, 
             const LaneVec r = 1.0 / (sa * sb);
             const LaneVec ia = sb * r; // 1 / |den_a|^2
             const LaneVec ib = sa * r; // 1 / |den_b|^2
-            double* c = coef + (n - first) / width * coef_stride;
+            double* c = coef + i * coef_stride;
             store_lanes(c, (pa_re * da_re + pa_im * da_im) * ia);         // Re a_n
             store_lanes(c + width, (pa_im * da_re - pa_re * da_im) * ia); // Im a_n
             store_lanes(c + 2 * width, (pb_re * db_re + pb_im * db_im) * ib);
@@ -877,14 +878,17 @@ HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, cplx inv_z, int n_terms, 
             store_lanes(c + 4 * width, -ga_im * ia - gb_im * ib);
         }
         // The orders past N in the last step contribute nothing.
-        for (int n = n_terms + 1; n < first + (end - first + width - 1) / width * width; ++n) {
-            double* c = coef + (n - first) / width * coef_stride + (n - first) % width;
-            for (int part = 0; part < 5; ++part)
-                c[part * width] = 0.0;
+        if (const int n_last = first + (steps - 1) * width; n_last + width - 1 > n_terms) {
+            const auto keep = load_lanes(t.n + n_last) <= static_cast<double>(n_terms);
+            double* c = coef + (steps - 1) * coef_stride;
+            for (int part = 0; part < 5; ++part) {
+                const LaneVec v = load_lanes(c + part * width);
+                store_lanes(c + part * width, keep ? v : LaneVec{});
+            }
         }
         // 3. The sums.
-        for (int n = first; n < end; n += width) {
-            const double* c = coef + (n - first) / width * coef_stride;
+        for (int i = 0, n = first; i < steps; ++i, n += width) {
+            const double* c = coef + i * coef_stride;
             const LaneVec ar = load_lanes(c), ai = load_lanes(c + width);
             const LaneVec br = load_lanes(c + 2 * width), bi = load_lanes(c + 3 * width);
             const LaneVec w = load_lanes(t.w + n);

@@ -787,8 +787,8 @@ constexpr int chunk_orders = 64;
 // and all the sums of BH eqs. (4.61), (4.62), (4.74) and section 4.6, `width` orders per
 // step in GCC vector types, in three passes over each round of chunk_orders orders:
 //  1. G_a = D_n(mx)/m + n/x and G_b = m D_n(mx) + n/x. D_n comes from d_re, d_im
-//     (from_psi false) or, from_psi true, is formed here from the serial chain's
-//     unnormalised u_n = psi_n(z)/z^n, z = mx, passed in d_re, d_im:
+//     (from_psi false) or, from_psi true, G comes straight from the serial chain's
+//     unnormalised u_n = psi_n(z)/z^n, z = mx, passed in d_re, d_im, through
 //     D_n = (n+1)/z - z u_{n+1}/u_n, the division as multiplication by the conjugate over
 //     |u_n|^2;
 //  2. a_n, b_n and the absorption term Re(c) - |c|^2 of each (see detail::Coefficient);
@@ -804,15 +804,18 @@ constexpr int chunk_orders = 64;
 // the two divisions of a_n, b_n share one reciprocal 1/(|den_a|^2 |den_b|^2), and the sums
 // are `width` partial sums, added at the end.
 template <bool from_psi>
-HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, cplx inv_z, int n_terms, const double* d_re,
+HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, int n_terms, const double* d_re,
                                      const double* d_im, const double* psi, const double* chi,
                                      const WeightTables& t, SeriesSums& s) {
     const cplx inv_m = 1.0 / m;
     const double m_re = m.real(), m_im = m.imag();
     const double im_re = inv_m.real(), im_im = inv_m.imag();
-    const double iz_re = inv_z.real(), iz_im = inv_z.imag();
-    const double z_re = m_re * x, z_im = m_im * x;
     const double inv_x = 1.0 / x;
+    // 1/(m^2 x) and m^2 x for G from u_n (from_psi).
+    const cplx m2x = m * m * x;
+    const cplx inv_m2x = inv_m * inv_m * inv_x;
+    const double c1_re = inv_m2x.real(), c1_im = inv_m2x.imag();
+    const double c2_re = m2x.real(), c2_im = m2x.imag();
     // Per step of `width` orders: G_a (re, im), G_b (re, im) in `gain`; a (re, im),
     // b (re, im) and the absorption term in `coef`; each as one vector.
     constexpr int gain_stride = 4 * width;
@@ -827,26 +830,29 @@ HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, cplx inv_z, int n_terms, 
         // 1. G_a, G_b.
         for (int i = 0, n = first; i < steps; ++i, n += width) {
             const LaneVec nd = load_lanes(t.n + n);
-            LaneVec dr, di;
+            const LaneVec nx = nd * inv_x;
+            double* g = gain + i * gain_stride;
             if constexpr (from_psi) {
+                // With q = u_{n+1}/u_n, D_n = (n+1)/z - z q, so G_a = (n+1)/(m^2 x) + n/x - x q
+                // and G_b = (2n+1)/x - m^2 x q: the same terms as D_n/m + n/x and
+                // m D_n + n/x, in fewer operations.
                 const LaneVec pr = load_lanes(d_re + n), pi = load_lanes(d_im + n);
                 const LaneVec qr = load_lanes(d_re + n + 1), qi = load_lanes(d_im + n + 1);
                 const LaneVec inv = 1.0 / (pr * pr + pi * pi);
                 const LaneVec n1 = nd + 1.0;
-                const LaneVec rr = (qr * pr + qi * pi) * inv; // u_{n+1}/u_n
+                const LaneVec rr = (qr * pr + qi * pi) * inv; // q = u_{n+1}/u_n
                 const LaneVec ri = (qi * pr - qr * pi) * inv;
-                dr = n1 * iz_re - (z_re * rr - z_im * ri);
-                di = n1 * iz_im - (z_re * ri + z_im * rr);
+                store_lanes(g, n1 * c1_re + nx - x * rr);                                  // G_a
+                store_lanes(g + width, n1 * c1_im - x * ri);                               //
+                store_lanes(g + 2 * width, (nd + n1) * inv_x - (c2_re * rr - c2_im * ri)); // G_b
+                store_lanes(g + 3 * width, -(c2_re * ri + c2_im * rr));                    //
             } else {
-                dr = load_lanes(d_re + n);
-                di = load_lanes(d_im + n);
+                const LaneVec dr = load_lanes(d_re + n), di = load_lanes(d_im + n);
+                store_lanes(g, dr * im_re - di * im_im + nx);           // G_a
+                store_lanes(g + width, dr * im_im + di * im_re);        //
+                store_lanes(g + 2 * width, m_re * dr - m_im * di + nx); // G_b
+                store_lanes(g + 3 * width, m_re * di + m_im * dr);      //
             }
-            const LaneVec nx = nd * inv_x;
-            double* g = gain + i * gain_stride;
-            store_lanes(g, dr * im_re - di * im_im + nx);           // G_a
-            store_lanes(g + width, dr * im_im + di * im_re);        //
-            store_lanes(g + 2 * width, m_re * dr - m_im * di + nx); // G_b
-            store_lanes(g + 3 * width, m_re * di + m_im * dr);      //
         }
         // 2. a_n, b_n.
         for (int i = 0, n = first; i < steps; ++i, n += width) {
@@ -953,11 +959,11 @@ HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_
     if (have_d) {
         pad(d_re, 1);
         pad(d_im, 1);
-        series_sums<false>(m, x, inv_z, n_terms, d_re, d_im, psi, chi, t, s);
+        series_sums<false>(m, x, n_terms, d_re, d_im, psi, chi, t, s);
     } else {
         pad(p_re, 2);
         pad(p_im, 2);
-        series_sums<true>(m, x, inv_z, n_terms, p_re, p_im, psi, chi, t, s);
+        series_sums<true>(m, x, n_terms, p_re, p_im, psi, chi, t, s);
     }
 
     // As detail::MieSums::finish.

@@ -209,8 +209,8 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 //     libm call (detail::sin_cos_moderate) and N from a table (mie_series_terms);
 //  3. vector passes (series_sums) over rounds of 64 orders: G_a, G_b from D_n (formed from
 //     the stored u_n, or read after the lanes or a rescaled serial chain), then a_n, b_n,
-//     then all the sums; the pair term of g Q_sca from the previous step's vectors by a
-//     shuffle.
+//     then all the sums; the pair term of g Q_sca reads a_{n-1}, b_{n-1} one index lower
+//     in the coefficient buffers.
 // The arithmetic is written on real and imaginary parts (structure of arrays) because the
 // vectoriser does not see through std::complex; pass 3 is written in GCC vector types of 4
 // doubles with `width` partial sums per sum (without -ffast-math the compiler must not
@@ -769,14 +769,6 @@ HOLDFAST_MIE_INLINE LaneVec load_lanes(const double* p) {
 }
 HOLDFAST_MIE_INLINE void store_lanes(double* p, LaneVec v) { std::memcpy(p, &v, sizeof v); }
 HOLDFAST_MIE_INLINE double lane_sum(LaneVec v) { return (v[0] + v[1]) + (v[2] + v[3]); }
-// (prev[3], cur[0], cur[1], cur[2]): the values of order n - 1 beside those of order n.
-HOLDFAST_MIE_INLINE LaneVec shift_in(LaneVec prev, LaneVec cur) {
-#if defined(__clang__)
-    return __builtin_shufflevector(prev, cur, 3, 4, 5, 6);
-#else
-    return __builtin_shuffle(prev, cur, LaneBits{3, 4, 5, 6});
-#endif
-}
 
 // Orders per round of series_sums' three passes (a multiple of `width`): the passes hand
 // their results on through buffers of 9 doubles per order (4.6 KiB), which stay in the
@@ -792,8 +784,9 @@ constexpr int chunk_orders = 64;
 //     D_n = (n+1)/z - z u_{n+1}/u_n, the division as multiplication by the conjugate over
 //     |u_n|^2;
 //  2. a_n, b_n and the absorption term Re(c) - |c|^2 of each (see detail::Coefficient);
-//  3. the sums; the pair term of g Q_sca takes a_{n-1}, b_{n-1} from the previous step's
-//     vectors by a shuffle.
+//  3. the sums; the pair term of g Q_sca reads a_{n-1}, b_{n-1} one index lower in the
+//     coefficient buffers (one unaligned load each instead of a shuffle with the previous
+//     step's vectors, which also kept four vectors live across steps).
 // One pass per stage rather than one loop doing all three: the chain of dependent
 // operations from u_n to a sum is some 150 cycles long, and in one loop the processor's
 // scheduler holds about one step of it, so the steps barely overlap; each pass alone has a
@@ -819,11 +812,14 @@ HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, int n_terms, const double
     // Per step of `width` orders: G_a (re, im), G_b (re, im) in `gain`; a (re, im),
     // b (re, im) and the absorption term in `coef`; each as one vector.
     constexpr int gain_stride = 4 * width;
-    constexpr int coef_stride = 5 * width;
     alignas(32) double gain[chunk_orders / width * gain_stride];
-    alignas(32) double coef[chunk_orders / width * coef_stride];
+    // Re a_n, Im a_n, Re b_n, Im b_n, absorption term: order n at index n - first + width;
+    // index width - 1 holds the order before the round (for the pair term; a_0 = b_0 = 0).
+    constexpr int coef_size = chunk_orders + width;
+    alignas(32) double coef[5][coef_size];
+    for (int part = 0; part < 4; ++part)
+        coef[part][width - 1] = 0.0;
     LaneVec ext{}, sca{}, absorbed{}, cross{}, pair{}, back_re{}, back_im{};
-    LaneVec ar_prev{}, ai_prev{}, br_prev{}, bi_prev{}; // a_0 = b_0 = 0
     for (int first = 1; first <= n_terms; first += chunk_orders) {
         // Steps of `width` orders from `first` on, the last possibly past N.
         const int steps = (std::min(chunk_orders, n_terms + 1 - first) + width - 1) / width;
@@ -875,45 +871,45 @@ HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, int n_terms, const double
             const LaneVec r = 1.0 / (sa * sb);
             const LaneVec ia = sb * r; // 1 / |den_a|^2
             const LaneVec ib = sa * r; // 1 / |den_b|^2
-            double* c = coef + i * coef_stride;
-            store_lanes(c, (pa_re * da_re + pa_im * da_im) * ia);         // Re a_n
-            store_lanes(c + width, (pa_im * da_re - pa_re * da_im) * ia); // Im a_n
-            store_lanes(c + 2 * width, (pb_re * db_re + pb_im * db_im) * ib);
-            store_lanes(c + 3 * width, (pb_im * db_re - pb_re * db_im) * ib);
+            const int j = width + i * width;
+            store_lanes(coef[0] + j, (pa_re * da_re + pa_im * da_im) * ia); // Re a_n
+            store_lanes(coef[1] + j, (pa_im * da_re - pa_re * da_im) * ia); // Im a_n
+            store_lanes(coef[2] + j, (pb_re * db_re + pb_im * db_im) * ib);
+            store_lanes(coef[3] + j, (pb_im * db_re - pb_re * db_im) * ib);
             // Re(c) - |c|^2 = -Im(G) / |den|^2 (Wronskian form, see detail::Coefficient).
-            store_lanes(c + 4 * width, -ga_im * ia - gb_im * ib);
+            store_lanes(coef[4] + j, -ga_im * ia - gb_im * ib);
         }
         // The orders past N in the last step contribute nothing.
         if (const int n_last = first + (steps - 1) * width; n_last + width - 1 > n_terms) {
             const auto keep = load_lanes(t.n + n_last) <= static_cast<double>(n_terms);
-            double* c = coef + (steps - 1) * coef_stride;
+            const int j = width + (steps - 1) * width;
             for (int part = 0; part < 5; ++part) {
-                const LaneVec v = load_lanes(c + part * width);
-                store_lanes(c + part * width, keep ? v : LaneVec{});
+                const LaneVec v = load_lanes(coef[part] + j);
+                store_lanes(coef[part] + j, keep ? v : LaneVec{});
             }
         }
         // 3. The sums.
         for (int i = 0, n = first; i < steps; ++i, n += width) {
-            const double* c = coef + i * coef_stride;
-            const LaneVec ar = load_lanes(c), ai = load_lanes(c + width);
-            const LaneVec br = load_lanes(c + 2 * width), bi = load_lanes(c + 3 * width);
+            const int j = width + i * width;
+            const LaneVec ar = load_lanes(coef[0] + j), ai = load_lanes(coef[1] + j);
+            const LaneVec br = load_lanes(coef[2] + j), bi = load_lanes(coef[3] + j);
             const LaneVec w = load_lanes(t.w + n);
             ext += w * (ar + br);
             sca += w * (ar * ar + ai * ai + br * br + bi * bi);
-            absorbed += w * load_lanes(c + 4 * width);
+            absorbed += w * load_lanes(coef[4] + j);
             cross += load_lanes(t.w_ab + n) * (ar * br + ai * bi);
-            // n(n+2)/(n+1) Re(a_n a*_{n+1} + b_n b*_{n+1}) for the pair (n-1, n).
+            // n(n+2)/(n+1) Re(a_n a*_{n+1} + b_n b*_{n+1}) for the pair (n-1, n): the orders
+            // n-1.. one index lower.
             pair += load_lanes(t.w_pair + n) *
-                    (shift_in(ar_prev, ar) * ar + shift_in(ai_prev, ai) * ai +
-                     shift_in(br_prev, br) * br + shift_in(bi_prev, bi) * bi);
+                    (load_lanes(coef[0] + j - 1) * ar + load_lanes(coef[1] + j - 1) * ai +
+                     load_lanes(coef[2] + j - 1) * br + load_lanes(coef[3] + j - 1) * bi);
             // (-1)^n is the same in a lane at every step (width is even): applied at the end.
             back_re += w * (ar - br);
             back_im += w * (ai - bi);
-            ar_prev = ar;
-            ai_prev = ai;
-            br_prev = br;
-            bi_prev = bi;
         }
+        // The round's last order before the next round's first.
+        for (int part = 0; part < 4; ++part)
+            coef[part][width - 1] = coef[part][width + chunk_orders - 1];
     }
     s.ext = lane_sum(ext);
     s.sca = lane_sum(sca);

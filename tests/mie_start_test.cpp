@@ -99,6 +99,45 @@ TEST_CASE("the serial D_n chain starts high enough for a 1e-16 start error", "[m
     CHECK(lanes >= 5);
 }
 
+// Where the start table marks a chain as needing no size checks (start_table::unchecked_flag),
+// the chain u_{n-1} = (2n+1) u_n - z^2 u_{n+1} from u_{top+1} = 0, u_top = 1 must stay below
+// 2^500 (so |u|^2 stays far from overflow) all the way down to u_0. Expected: the table's
+// bound, the product of 2n + 1 + |z|^2 over the steps, holds for the actual chain (run here
+// in long double, which cannot overflow at these sizes), for the |z| of each table row and
+// arguments from real to metal-like. Also: the benchmark's x = 10 cases take the unchecked
+// chain, and a large |z| (many steps of fast growth) does not.
+TEST_CASE("chains marked for no size checks stay far below overflow", "[mie][start]") {
+    int unchecked = 0;
+    for (int iz = 1; iz <= holdfast::detail::serial_max_top; ++iz)
+        for (int n_terms = 4; n_terms < holdfast::detail::serial_max_top; n_terms += 3) {
+            const auto entry = holdfast::detail::serial_start_entry(iz, n_terms);
+            if (!entry.unchecked) continue;
+            ++unchecked;
+            for (const double arg : {0.0, 0.3, 0.8, 1.2, 1.5707}) {
+                const lcplx z =
+                    std::polar(static_cast<long double>(iz), static_cast<long double>(arg));
+                const lcplx z2 = z * z;
+                lcplx up(0.0L), cur(1.0L);
+                long double largest = 1.0L;
+                // One step more than top: the chain may start one order higher (even count).
+                for (int n = entry.top + 1; n >= 1; --n) {
+                    const lcplx lo = static_cast<long double>(2 * n + 1) * cur - z2 * up;
+                    up = cur;
+                    cur = lo;
+                    largest = std::max(largest, std::abs(cur));
+                }
+                INFO("|z| = " << iz << ", arg z = " << arg << ", N = " << n_terms << ", top "
+                              << entry.top << ": largest |u| " << static_cast<double>(largest));
+                CHECK(largest < std::ldexp(1.0L, 500));
+            }
+        }
+    CHECK(unchecked >= 100);
+    // x = 10: |z| = 17 (m = 1.7+0.03i) and 20.9 (m = 2.0+0.6i), N = 25.
+    CHECK(holdfast::detail::serial_start_entry(17.0, 25).unchecked);
+    CHECK(holdfast::detail::serial_start_entry(20.9, 25).unchecked);
+    CHECK_FALSE(holdfast::detail::serial_start_entry(60.0, 30).unchecked);
+}
+
 // The table of mie_series_terms (detail::series_terms_from_table) must give the N of the
 // formula ceil(x + 6 x^(1/3) + 2) with std::cbrt everywhere it answers: N is part of the
 // results (changing it changes the last digits of every efficiency). Expected values: the

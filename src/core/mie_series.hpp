@@ -297,23 +297,41 @@ constexpr double log_of(double y) { // y >= 1: ln 2 per halving, then 2 atanh((y
 }
 constexpr double acosh_of(double t) { return log_of(t + sqrt_of(t * t - 1.0)); }
 
+// Entries: top, plus `unchecked_flag` where the chain cannot come near overflow without
+// rescaling: a step u_{n-1} = (2n+1) u_n - z^2 u_{n+1} grows max(|u_n|, |u_{n+1}|) by at
+// most 2n + 1 + |z|^2, so from the start's 1 the chain stays below the product of those
+// factors over n = 1..top + 1; where that is below 2^500 (about 3e150), |u|^2 and the
+// products of two u in series_sums stay below 1e301, far from overflow.
+inline constexpr std::uint8_t unchecked_flag = 128;
 struct Table {
     std::uint8_t top[serial_max_top + 1][serial_max_top + 1];
 };
 constexpr Table make() {
-    constexpr double target = 39.14394658089878; // ln(1e17)
+    constexpr double target = 39.14394658089878;                // ln(1e17)
+    constexpr double growth_limit = 500.0 * 0.6931471805599453; // ln(2^500)
     Table t{};
     for (int iz = 1; iz <= serial_max_top; ++iz) {
         double decay[serial_max_top + 1] = {};
         for (int n = iz + 1; n <= serial_max_top; ++n)
             decay[n] = 2.0 * acosh_of(static_cast<double>(n) / iz);
+        // ln of the growth bound over n = 1..k + 1, for each top k.
+        double growth[serial_max_top + 1] = {};
+        double sum_growth = log_of(3.0 + iz * iz); // n = 1
+        for (int k = 1; k <= serial_max_top; ++k) {
+            sum_growth += log_of(2.0 * (k + 1) + 1.0 + iz * iz);
+            growth[k] = sum_growth;
+        }
         for (int s0 = iz; s0 <= serial_max_top; ++s0) {
             double sum = 0.0;
             int n = s0;
             while (sum < target && n <= serial_max_top)
                 sum += decay[n++];
-            // At most serial_max_top - 1: the chain may add one step (an even count).
-            t.top[iz][s0] = static_cast<std::uint8_t>(sum >= target && n < serial_max_top ? n : 0);
+            // At most serial_max_top - 1: the chain may add one step (an even count), which
+            // the growth bound includes (n + 1).
+            const bool serial = sum >= target && n < serial_max_top;
+            const bool unchecked = serial && growth[n] < growth_limit;
+            t.top[iz][s0] =
+                static_cast<std::uint8_t>(serial ? n + (unchecked ? unchecked_flag : 0) : 0);
         }
     }
     return t;
@@ -321,11 +339,20 @@ constexpr Table make() {
 inline constexpr Table table = make();
 } // namespace start_table
 
-// top from the table, or 0 if the serial chain does not take this |z| and N.
-inline int serial_start(double abs_z, int n_terms) {
-    if (!(abs_z <= serial_max_top) || n_terms >= serial_max_top) return 0;
+// top from the table, or 0 if the serial chain does not take this |z| and N; and whether
+// the chain may run without size checks (start_table::unchecked_flag).
+struct SerialStart {
+    int top;
+    bool unchecked;
+};
+inline SerialStart serial_start_entry(double abs_z, int n_terms) {
+    if (!(abs_z <= serial_max_top) || n_terms >= serial_max_top) return {0, false};
     const int iz = std::max(1, static_cast<int>(std::ceil(abs_z)));
-    return start_table::table.top[iz][std::max(n_terms + 1, iz)];
+    const int entry = start_table::table.top[iz][std::max(n_terms + 1, iz)];
+    return {entry & (start_table::unchecked_flag - 1), (entry & start_table::unchecked_flag) != 0};
+}
+inline int serial_start(double abs_z, int n_terms) {
+    return serial_start_entry(abs_z, n_terms).top;
 }
 
 // Logarithmic derivative D_n(z) = psi_n'(z) / psi_n(z) for n = 0..n_terms into d[0..n_terms]

@@ -796,12 +796,12 @@ constexpr int chunk_orders = 64;
 // One pass per stage rather than one loop doing all three: the chain of dependent
 // operations from u_n to a sum is some 150 cycles long, and in one loop the processor's
 // scheduler holds about one step of it, so the steps barely overlap; each pass alone has a
-// short chain per step and its steps overlap (at x = 10 a call took 0.84 of the one-loop
-// time; README, "Performance"). The orders above n_terms in the last step (the buffers hold
-// `width` values beyond N, set to 1 so that they compute on harmless numbers) are set to
-// zero after pass 2. Two changes from the one-term-at-a-time form, both at rounding level:
-// the two divisions of a_n, b_n share one reciprocal 1/(|den_a|^2 |den_b|^2), and the sums
-// are `width` partial sums, added at the end.
+// short chain per step and its steps overlap (at x = 10 a call took 0.80-0.85 of the
+// one-loop time; README, "Performance"). The orders above n_terms in the last step (the buffers
+// hold `width` values beyond N, set to 1 so that they compute on harmless numbers) are set to zero
+// after pass 2. Two changes from the one-term-at-a-time form, both at rounding level: the two
+// divisions of a_n, b_n share one reciprocal 1/(|den_a|^2 |den_b|^2), and the sums are `width`
+// partial sums, added at the end.
 template <bool from_psi>
 HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, int n_terms, const double* d_re,
                                      const double* d_im, const double* psi, const double* chi,

@@ -9,19 +9,21 @@ void call_geometric(double re, double im, double x, double* out);
 
 namespace holdfast {
 static_assert(sizeof(MieEfficiencies) == 6 * sizeof(double));
-MieEfficiencies mie_small_sphere(std::complex<double> m, double x) {
+namespace {
+MieEfficiencies from_current(void (*call)(double, double, double, double*), std::complex<double> m,
+                             double x) {
     double values[6];
-    call_small(m.real(), m.imag(), x, values);
+    call(m.real(), m.imag(), x, values);
     MieEfficiencies q;
     std::memcpy(&q, values, sizeof q);
     return q;
 }
+} // namespace
+MieEfficiencies mie_small_sphere(std::complex<double> m, double x) {
+    return from_current(call_small, m, x);
+}
 MieEfficiencies mie_geometric_optics(std::complex<double> m, double x) {
-    double values[6];
-    call_geometric(m.real(), m.imag(), x, values);
-    MieEfficiencies q;
-    std::memcpy(&q, values, sizeof q);
-    return q;
+    return from_current(call_geometric, m, x);
 }
 } // namespace holdfast
 

@@ -255,6 +255,28 @@ TEST_CASE("blow-out search on a peaked curve", "[grain][blowout]") {
     CHECK(rel(none.beta_max, 2.0) < 1e-10);
 }
 
+TEST_CASE("an exception from beta during the peak refinement reaches the caller as itself",
+          "[grain][blowout]") {
+    // The sweep's stop request is an exception thrown from inside beta. GSL's Brent minimiser
+    // evaluates beta once while it is set up; that first call must not turn the exception
+    // into a "bad function" error (a sweep stopped at that instant used to fail).
+    struct Interrupt {};
+    const double s0 = 0.2;
+    const std::function<double(double)> smooth = [&](double s) {
+        const double t = s / s0;
+        return 4 * t / (1 + t * t);
+    };
+    const Scan s = scan(smooth, 1e-3, 100.0, 40);
+    int calls = 0;
+    const int throw_at = GENERATE(1, 2, 3); // the first call is the set-up's, then iterations
+    const std::function<double(double)> f = [&](double r) {
+        if (++calls == throw_at) throw Interrupt{};
+        return smooth(r);
+    };
+    // 3 above the peak (2): no blow-out root search, so the minimiser makes the first calls.
+    CHECK_THROWS_AS(search_beta_curve(f, s.radii_um, s.beta, 3.0), Interrupt);
+}
+
 TEST_CASE("blow-out search edge cases", "[grain][blowout]") {
     const std::function<double(double)> f = [](double s) { return 1.0 / s; };
     // A crossing exactly on a scan radius is reported once (analytic: 1/s = 0.5 at s = 2).

@@ -311,6 +311,9 @@ BlowoutSearch search_beta_curve(const std::function<double(double radius_um)>& b
     int status =
         gsl_min_fminimizer_set_with_values(m, &fn, std::log(scan_radii_um[k]), -scan_beta[k], lo,
                                            -scan_beta[k - 1], hi, -scan_beta[k + 1]);
+    // GSL's Brent set-up already evaluates beta once; an exception thrown there (a sweep's stop
+    // request among them) must reach the caller as itself, not as GSL's "bad function".
+    neg.rethrow_if_failed();
     // A flat top (equal neighbours) does not bracket strictly: keep the grid maximum then.
     if (status == GSL_EINVAL) return out;
     if (status != GSL_SUCCESS)

@@ -242,22 +242,27 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 // (leapfrog) so that no register moves sit in the chain, and the last values kept in
 // locals rather than reloaded through the buffer.
 class UpwardRiccati {
+    // (psi_n, chi_n) as one vector of two doubles: both follow the same recurrence with the
+    // same real coefficient, so one multiply-add steps both (half the arithmetic).
+    using Pair = double __attribute__((vector_size(2 * sizeof(double))));
+
   public:
-    UpwardRiccati(double x, int n_terms, double* psi, double* chi)
-        : inv_x_(1.0 / x), pairs_left_((n_terms - 1) / 2), one_left_((n_terms - 1) % 2 != 0),
+    UpwardRiccati(double x, double inv_x, int n_terms, double* psi, double* chi)
+        : inv_x_(inv_x), pairs_left_((n_terms - 1) / 2), one_left_((n_terms - 1) % 2 != 0),
           psi_(psi), chi_(chi) {
+        double s, c;
         if (x < detail::moderate_x_limit) {
-            detail::sin_cos_moderate(x, psi_prev_, chi_prev_);
+            detail::sin_cos_moderate(x, s, c);
         } else {
-            psi_prev_ = std::sin(x);
-            chi_prev_ = std::cos(x);
+            s = std::sin(x);
+            c = std::cos(x);
         }
-        psi_n_ = psi_prev_ * inv_x_ - chi_prev_; // psi_1
-        chi_n_ = chi_prev_ * inv_x_ + psi_prev_; // chi_1
-        psi[0] = psi_prev_;
-        chi[0] = chi_prev_;
-        psi[1] = psi_n_;
-        chi[1] = chi_n_;
+        prev_ = Pair{s, c};
+        cur_ = prev_ * inv_x_ - Pair{c, -s}; // psi_1 = sin x / x - cos x, chi_1 = cos x / x + sin x
+        psi[0] = s;
+        chi[0] = c;
+        psi[1] = cur_[0];
+        chi[1] = cur_[1];
     }
     // From orders (n-1, n) to (n+1, n+2), while n + 2 <= n_terms. 2n + 1 is carried as a
     // double (exact) and the pointers advance: no integer conversion per call.
@@ -265,14 +270,12 @@ class UpwardRiccati {
         if (pairs_left_ <= 0) return;
         const double f1 = f_ * inv_x_;
         const double f2 = (f_ + 2.0) * inv_x_;
-        psi_prev_ = f1 * psi_n_ - psi_prev_; // psi_{n+1}
-        chi_prev_ = f1 * chi_n_ - chi_prev_;
-        psi_n_ = f2 * psi_prev_ - psi_n_; // psi_{n+2}
-        chi_n_ = f2 * chi_prev_ - chi_n_;
-        psi_[2] = psi_prev_;
-        chi_[2] = chi_prev_;
-        psi_[3] = psi_n_;
-        chi_[3] = chi_n_;
+        prev_ = f1 * cur_ - prev_; // order n+1
+        cur_ = f2 * prev_ - cur_;  // order n+2
+        psi_[2] = prev_[0];
+        chi_[2] = prev_[1];
+        psi_[3] = cur_[0];
+        chi_[3] = cur_[1];
         psi_ += 2;
         chi_ += 2;
         f_ += 4.0;
@@ -282,10 +285,10 @@ class UpwardRiccati {
     HOLDFAST_MIE_INLINE void finish() {
         while (pairs_left_ > 0)
             advance_two();
-        if (one_left_) { // one step left: psi_{n+1} from psi_n, psi_{n-1}
-            const double f = f_ * inv_x_;
-            psi_[2] = f * psi_n_ - psi_prev_;
-            chi_[2] = f * chi_n_ - chi_prev_;
+        if (one_left_) { // one step left: order n+1 from n, n-1
+            const Pair next = (f_ * inv_x_) * cur_ - prev_;
+            psi_[2] = next[0];
+            chi_[2] = next[1];
             one_left_ = false;
         }
     }
@@ -296,8 +299,8 @@ class UpwardRiccati {
     bool one_left_;
     double* psi_; // psi_ + n - 1 (and chi_) for the current n
     double* chi_;
-    double f_ = 3.0; // 2n + 1 for the current n, from n = 1
-    double psi_prev_, chi_prev_, psi_n_, chi_n_;
+    double f_ = 3.0;  // 2n + 1 for the current n, from n = 1
+    Pair prev_, cur_; // (psi, chi) of orders n - 1 and n
 };
 
 // Downward recurrence in lanes. The linear form psi_{n-1} = a_n psi_n - psi_{n+1},
@@ -610,11 +613,9 @@ constexpr int serial_max_steps = detail::serial_max_top;
 // chains of moderate |z|, x = 10 among them), the size checks are left out (5% of a call
 // at x = 10: each check waits for the chain's latest value).
 template <bool checked>
-HOLDFAST_MIE_INLINE bool
-log_derivative_serial(cplx z, cplx inv_z, int start, int n_terms, double* d_re, double* d_im,
-                      double* p_re, double* p_im, const double* tn, UpwardRiccati& riccati) {
-    const double iz_re = inv_z.real();
-    const double iz_im = inv_z.imag();
+HOLDFAST_MIE_INLINE bool log_derivative_serial(cplx z, int start, int n_terms, double* d_re,
+                                               double* d_im, double* p_re, double* p_im,
+                                               const double* tn, UpwardRiccati& riccati) {
     const double z_re = z.real();
     const double z_im = z.imag();
     const cplx z2 = z * z;
@@ -705,6 +706,9 @@ log_derivative_serial(cplx z, cplx inv_z, int start, int n_terms, double* d_re, 
     if (rescales == 0) {
         return false;
     }
+    const cplx inv_z = 1.0 / z;
+    const double iz_re = inv_z.real();
+    const double iz_im = inv_z.imag();
     // D_k = (k+1)/z - z u_{k+1}/u_k, the division as multiplication by the conjugate over
     // |u_k|^2: one real division.
 #pragma omp simd
@@ -803,13 +807,12 @@ constexpr int chunk_orders = 64;
 // divisions of a_n, b_n share one reciprocal 1/(|den_a|^2 |den_b|^2), and the sums are `width`
 // partial sums, added at the end.
 template <bool from_psi>
-HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, int n_terms, const double* d_re,
-                                     const double* d_im, const double* psi, const double* chi,
-                                     const WeightTables& t, SeriesSums& s) {
+HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, double inv_x, int n_terms,
+                                     const double* d_re, const double* d_im, const double* psi,
+                                     const double* chi, const WeightTables& t, SeriesSums& s) {
     const cplx inv_m = 1.0 / m;
     const double m_re = m.real(), m_im = m.imag();
     const double im_re = inv_m.real(), im_im = inv_m.imag();
-    const double inv_x = 1.0 / x;
     // 1/(m^2 x) and m^2 x for G from u_n (from_psi).
     const cplx m2x = m * m * x;
     const cplx inv_m2x = inv_m * inv_m * inv_x;
@@ -936,11 +939,11 @@ HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_
     double* p_re = buf + 4 * stride;
     double* p_im = buf + 5 * stride;
     const cplx z = m * x;
-    const cplx inv_z = 1.0 / z;
     // |z| without std::abs (hypot's care for overflow is not needed here).
     const double abs_z = std::sqrt(z.real() * z.real() + z.imag() * z.imag());
     const auto [serial_top, unchecked] = detail::serial_start_entry(abs_z, n_terms);
-    UpwardRiccati riccati(x, n_terms, psi, chi);
+    const double inv_x = 1.0 / x;
+    UpwardRiccati riccati(x, inv_x, n_terms, psi, chi);
     // series_sums reads `width` - 1 values past N (psi_n, chi_n, D_n) or past N + 1 (psi_n(mx)).
     const auto pad = [n_terms](double* v, int from) {
         for (int k = 0; k < width; ++k)
@@ -948,12 +951,12 @@ HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_
     };
     bool have_d = true;
     if (serial_top > 0) {
-        have_d = unchecked ? log_derivative_serial<false>(z, inv_z, serial_top, n_terms, d_re, d_im,
-                                                          p_re, p_im, t.n, riccati)
-                           : log_derivative_serial<true>(z, inv_z, serial_top, n_terms, d_re, d_im,
-                                                         p_re, p_im, t.n, riccati);
+        have_d = unchecked ? log_derivative_serial<false>(z, serial_top, n_terms, d_re, d_im, p_re,
+                                                          p_im, t.n, riccati)
+                           : log_derivative_serial<true>(z, serial_top, n_terms, d_re, d_im, p_re,
+                                                         p_im, t.n, riccati);
     } else {
-        log_derivative_lanes(inv_z, detail::downward_start(abs_z, n_terms), n_terms, d_re, d_im,
+        log_derivative_lanes(1.0 / z, detail::downward_start(abs_z, n_terms), n_terms, d_re, d_im,
                              riccati);
     }
     riccati.finish();
@@ -963,21 +966,22 @@ HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_
     if (have_d) {
         pad(d_re, 1);
         pad(d_im, 1);
-        series_sums<false>(m, x, n_terms, d_re, d_im, psi, chi, t, s);
+        series_sums<false>(m, x, inv_x, n_terms, d_re, d_im, psi, chi, t, s);
     } else {
         pad(p_re, 2);
         pad(p_im, 2);
-        series_sums<true>(m, x, n_terms, p_re, p_im, psi, chi, t, s);
+        series_sums<true>(m, x, inv_x, n_terms, p_re, p_im, psi, chi, t, s);
     }
 
     // As detail::MieSums::finish.
     MieEfficiencies q;
-    const double f = 2.0 / (x * x);
+    const double inv_x2 = inv_x * inv_x;
+    const double f = 2.0 * inv_x2;
     q.q_ext = f * s.ext;
     q.q_sca = f * s.sca;
     q.q_abs = f * s.abs;
     const double g_q_sca = 2.0 * f * (s.pair + s.cross);
-    q.q_back = (s.back_re * s.back_re + s.back_im * s.back_im) / (x * x);
+    q.q_back = (s.back_re * s.back_re + s.back_im * s.back_im) * inv_x2;
     q.g = q.q_sca > 0.0 ? g_q_sca / q.q_sca : 0.0;
     q.q_pr = q.q_ext - g_q_sca;
     return q;

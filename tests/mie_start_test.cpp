@@ -99,6 +99,40 @@ TEST_CASE("the serial D_n chain starts high enough for a 1e-16 start error", "[m
     CHECK(lanes >= 5);
 }
 
+// The lanes' start for absorbing spheres with |z| far above N (detail::lanes_start): Debye's
+// rate 2 Re acosh((N+1)/z) at the bottom, ln(1e18) of decay plus 8 orders. Expected: the
+// exact start error (as above) below 1e-16 at every order the series uses, over |z| from 120
+// to 4000, arg z from 0.03 (weakly absorbing) to 1.56 (metal-like) and N from 2% to 90% of
+// |z|; the start never above downward_start and never at N + 1 itself. Also the benchmark's
+// m = 2.0+0.6i at x = 1e3 and a metal-like 10+10i are lowered, m = 1.7+0.03i is not (arg z
+// below 0.03), as the comment in mie_series.hpp says.
+TEST_CASE("the lanes start lower for absorbing spheres and still leave a 1e-16 start error",
+          "[mie][start]") {
+    int lowered = 0;
+    for (const double abs_z : {120.0, 350.0, 1000.0, 4000.0})
+        for (const double arg : {0.03, 0.1, 0.3, 0.7, 1.2, 1.56})
+            for (const double share : {0.02, 0.1, 0.4, 0.7, 0.9}) {
+                const int n_terms = std::max(4, static_cast<int>(share * abs_z));
+                const std::complex<double> z = std::polar(abs_z, arg);
+                const int plain = holdfast::detail::downward_start(abs_z, n_terms);
+                const int top = holdfast::detail::lanes_start(z, abs_z, n_terms);
+                INFO("|z| = " << abs_z << ", arg z = " << arg << ", N = " << n_terms << ", start "
+                              << top << " (downward_start " << plain << ")");
+                CHECK(top <= plain);
+                CHECK(top > n_terms + 8);
+                if (top == plain) continue;
+                ++lowered;
+                CHECK(start_error(lcplx(z.real(), z.imag()), n_terms, top) <= 1e-16);
+            }
+    CHECK(lowered >= 40); // 46 of the 120 grid points
+    const int n_1e3 = holdfast::mie_series_terms(1e3);
+    const std::complex<double> z_silicate(2000.0, 600.0), z_metal(1e4, 1e4), z_weak(1700.0, 30.0);
+    CHECK(holdfast::detail::lanes_start(z_silicate, std::abs(z_silicate), n_1e3) < 1300);
+    CHECK(holdfast::detail::lanes_start(z_metal, std::abs(z_metal), n_1e3) < 1600);
+    CHECK(holdfast::detail::lanes_start(z_weak, std::abs(z_weak), n_1e3) ==
+          holdfast::detail::downward_start(std::abs(z_weak), n_1e3));
+}
+
 // Where the start table marks a chain as needing no size checks (start_table::unchecked_flag),
 // the chain u_{n-1} = (2n+1) u_n - z^2 u_{n+1} from u_{top+1} = 0, u_top = 1 must stay below
 // 2^500 (so |u|^2 stays far from overflow) all the way down to u_0. Expected: the table's

@@ -477,7 +477,7 @@ HOLDFAST_MIE_INLINE void apply_transfer(const LaneArrays& col1, const LaneArrays
 }
 
 // D_n(z) for n = 0..lanes*steps - 1 into d_re, d_im (the caller needs n = 0..n_terms, so
-// lanes*steps > n_terms), from a start at or above `start` (= downward_start(|z|, n_terms))
+// lanes*steps > n_terms), from a start at or above `start` (= detail::lanes_start)
 // with the usual arbitrary psi_{n_start+1} = 0, psi_{n_start} = 1.
 // The serial psi_n(x), chi_n(x) recurrence rides along (`riccati`).
 HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx inv_z, int start, int n_terms, double* d_re,
@@ -956,7 +956,7 @@ HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_
                            : log_derivative_serial<true>(z, serial_top, n_terms, d_re, d_im, p_re,
                                                          p_im, t.n, riccati);
     } else {
-        log_derivative_lanes(1.0 / z, detail::downward_start(abs_z, n_terms), n_terms, d_re, d_im,
+        log_derivative_lanes(1.0 / z, detail::lanes_start(z, abs_z, n_terms), n_terms, d_re, d_im,
                              riccati);
     }
     riccati.finish();

@@ -101,8 +101,8 @@ TEST_CASE("the serial D_n chain starts high enough for a 1e-16 start error", "[m
 
 // The lanes' start for absorbing spheres with |z| far above N (detail::lanes_start): the decay
 // rate 2 Re acosh((N+1)/z) of Debye's asymptotic forms (Abramowitz & Stegun 1964, eqs. 9.3.7,
-// 9.3.8) at the bottom, ln(1e18) of decay plus 8 orders. Expected: the
-// exact start error (as above) below 1e-16 at every order the series uses, over |z| from 120
+// 9.3.8) at the bottom, ln(1e18) of decay plus 8 orders. Expected: the exact start error (as
+// above) below 1e-16 at every order the series uses, over |z| from 120
 // to 4000, arg z from 0.03 (weakly absorbing) to 1.56 (metal-like) and N from 2% to 90% of
 // |z|; the start never above downward_start and never at N + 1 itself. Also the benchmark's
 // m = 2.0+0.6i at x = 1e3 and a metal-like 10+10i are lowered, m = 1.7+0.03i is not (arg z

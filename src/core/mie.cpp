@@ -199,14 +199,15 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 // The kernel runs in passes over buffers instead of one loop over n, so that most of the
 // work has no dependency from one n to the next and vectorises:
 //  1. D_n(mx), n = 0..N, by the downward recurrence, cut into parallel lanes
-//     (log_derivative_lanes, from downward_start), or serially when it is short
+//     (log_derivative_lanes, from detail::lanes_start), or serially when it is short
 //     (log_derivative_serial: the bare chain only, on u_n = psi_n(mx)/(mx)^n, whose
 //     recurrence has a real coefficient and so one multiply-add of latency per step; started
 //     from detail::serial_start, which is lower: only as high as the start error's decay to
 //     1e-16 needs, 42-45 instead of 46-51 at x = 10);
-//  2. psi_n(x), chi_n(x), n = 0..N, upward (UpwardRiccati): a serial chain, interleaved
-//     with pass 1 so that its latency is hidden; below x = 128 sin x and cos x without the
-//     libm call (detail::sin_cos_moderate) and N from a table (mie_series_terms);
+//  2. psi_n(x), chi_n(x), n = 0..N, upward (UpwardRiccati, the two as one vector of two
+//     doubles): a serial chain, interleaved with pass 1 so that its latency is hidden; below
+//     x = 128 sin x and cos x without the libm call (detail::sin_cos_moderate) and N from a
+//     table (mie_series_terms);
 //  3. vector passes (series_sums) over rounds of 64 orders: G_a, G_b from D_n (formed from
 //     the stored u_n, or read after the lanes or a rescaled serial chain), then a_n, b_n,
 //     then all the sums; the pair term of g Q_sca reads a_{n-1}, b_{n-1} one index lower

@@ -264,11 +264,12 @@ inline int downward_start(double abs_z, int n_terms) {
 // (the rate is taken at the bottom, where it is least; one decade and 8 orders of margin,
 // as Debye's rate is only asymptotic: with ln(1e17) and 8 the worst case was 1.05e-16).
 // Checked against the exact start error (long double psi_n, chi_n) in
-// tests/mie_start_test.cpp (a wider grid, |z| = 120..2e5, arg z = 0.03..1.56, gave 1.9e-18
-// at worst). It matters for metals, carbon and absorbing silicates at large x: m = 2.0+0.6i at x =
-// 1e3 starts at order 1196 instead of 2168 (N = 1062), m = 10+10i there at 1461 instead of 14 280.
-// The logarithm and square root cost about 0.1 us, so the bound is formed only where it can save a
-// few hundred orders (arg z >= 0.03 and downward_start at least 200 above N).
+// tests/mie_start_test.cpp; a wider grid, |z| = 120..2e5, arg z = 0.03..1.56, gave 1.9e-18
+// at worst. It matters for metals, carbon and absorbing silicates at large x: m = 2.0+0.6i
+// at x = 1e3 starts at order 1196 instead of 2168 (N = 1062), m = 10+10i there at 1461
+// instead of 14 280. The logarithm and square root cost about 0.1 us, so the bound is
+// formed only where it can save a few hundred orders (arg z >= 0.03 and downward_start at
+// least 200 above N).
 inline int lanes_start(std::complex<double> z, double abs_z, int n_terms) {
     const int plain = downward_start(abs_z, n_terms);
     const int bottom = n_terms + 1;

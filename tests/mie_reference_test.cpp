@@ -174,9 +174,9 @@ TEST_CASE("fast series matches a 50-digit evaluation, x up to 1e3", "[mie][refer
             compare_with_reference(m, x);
 }
 
-// The serial D_n(mx) chain starts where Debye's asymptotic decay of its start error reaches
-// 1e-16 (detail::serial_start; the exact start error is checked in mie_start_test.cpp) and
-// hands over to the lanes above order 95. These sizes put N + 1 below and above |m| x and
+// The serial D_n(mx) chain starts where, on Debye's asymptotic rates, its start error falls
+// far below rounding's in the efficiencies (detail::serial_start; checked with exact
+// functions in mie_start_test.cpp) and hands over to the lanes above order 95. These sizes put N + 1 below and above |m| x and
 // the start on both sides of that switch (e.g. m = 1.5: serial up to x ~ 40, lanes from
 // x = 45); real indices have the slowest decay. Same 1e-9 as above.
 TEST_CASE("fast series matches a 50-digit evaluation around the serial D_n start",

@@ -202,8 +202,8 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 //     (log_derivative_lanes, from detail::lanes_start), or serially when it is short
 //     (log_derivative_serial: the bare chain only, on u_n = psi_n(mx)/(mx)^n, whose
 //     recurrence has a real coefficient and so one multiply-add of latency per step; started
-//     from detail::serial_start, which is lower: only as high as the start error's decay to
-//     1e-16 needs, 42-45 instead of 46-51 at x = 10);
+//     from detail::serial_start, which is lower: only as high as keeps the start's error in
+//     the efficiencies far below rounding's, 40 and 42 instead of 46 and 51 at x = 10);
 //  2. psi_n(x), chi_n(x), n = 0..N, upward (UpwardRiccati, the two as one vector of two
 //     doubles): a serial chain, interleaved with pass 1 so that its latency is hidden; below
 //     x = 128 sin x and cos x without the libm call (detail::sin_cos_moderate) and N from a
@@ -942,7 +942,7 @@ HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_
     const cplx z = m * x;
     // |z| without std::abs (hypot's care for overflow is not needed here).
     const double abs_z = std::sqrt(z.real() * z.real() + z.imag() * z.imag());
-    const auto [serial_top, unchecked] = detail::serial_start_entry(abs_z, n_terms);
+    const auto [serial_top, unchecked] = detail::serial_start_entry(z, abs_z, n_terms);
     const double inv_x = 1.0 / x;
     UpwardRiccati riccati(x, inv_x, n_terms, psi, chi);
     // series_sums reads `width` - 1 values past N (psi_n, chi_n, D_n) or past N + 1 (psi_n(mx)).

@@ -290,44 +290,41 @@ inline constexpr int serial_max_top = 96;
 
 // Start of the serial chain. The arbitrary start psi_{top+1} = 0 makes the chain compute
 // psi_n + c chi_n, chi_n a second solution of the recurrence, c = -psi_{top+1}/chi_{top+1}:
-// at order n the relative error is |psi_{top+1}/chi_{top+1}| |chi_n/psi_n| (the usual
+// at order n the relative error is eps_n = |psi_{top+1}/chi_{top+1}| |chi_n/psi_n| (the usual
 // analysis of Miller's algorithm; W. Gautschi 1967, SIAM Rev. 9, 24, section 3). By Debye's
 // asymptotic forms (Abramowitz & Stegun 1964, eqs. 9.3.7, 9.3.8, order nu = n + 1/2),
-// ln|psi_n/chi_n| falls by 2 acosh(nu/|z|) per unit of order where nu > |z| (real z; an
-// absorbing z only adds decay). So the chain starts at top = s0 + k, s0 = max(N + 1, |z|),
-// with k the fewest steps whose decays 2 acosh(n/|z|), n = s0, s0 + 1, ..., add up to
-// ln(1e17): the start's error is below 1e-16 at every n <= N + 1. The decay is taken at n,
-// below the order n + 1/2..n + 3/2 of the step, and |z| is rounded up: both make it smaller,
-// so k errs on the safe side. Checked against the exact error (long double psi_n, chi_n) for
-// |z| = 0.03..75, arg z = 0..1.5, N = 4..90 wherever top <= serial_max_top: top was 1 to 5
-// steps above the least start that meets 1e-16 (the asymptotic decay is slightly low near
-// nu ~ |z|), and 4 to 9 steps below downward_start at x = 10 (m = 1.7+0.03i, 2.0+0.6i).
-// The table holds top for ceil(|z|) (at least 1) and s0 up to serial_max_top, or 0 where
-// top would reach it (sphere_large then runs its lanes from downward_start). Computed at compile
-// time; the constexpr square root and logarithm below need only a few digits.
+// ln|chi_n/psi_n| rises by 2 Re acosh(nu/z) per unit of order: for real z only above |z|,
+// for an absorbing z at every order, the faster the larger arg z.
+// What the series needs is that the start's error in the efficiencies stay far below
+// rounding's, not eps_n <= 1e-16 at every order: above both x and |z| the coefficients a_n,
+// b_n are of the size of psi_n(x)/chi_n(x), which falls faster with n (2 acosh(nu/x) per
+// order) than eps_n rises, and they move in proportion to the relative error of D_n. So the
+// start must give (all three on Debye's rates):
+//  - eps_n <= 1e-17 at every n <= s1 = min(N + 1, max(|z|, x)). Up to there a coefficient
+//    may be of order one, and for a real index between x and |z| sharply resonant
+//    (whispering-gallery modes), as sensitive to the start's error as to rounding's;
+//  - above s1, eps_n w_n <= 1e-17, w_n = |psi_n(x)/chi_n(x)| / |psi_s1(x)/chi_s1(x)|;
+//  - eps_n <= 1e-6 at every n <= N + 1, so that first-order reasoning holds.
+// The rates are taken at n, below the order n + 1/2..n + 3/2 of the step; |z| is rounded up,
+// arg z down to the class floor (arg_class_tan), x up to the largest x with N terms: each
+// makes the rise of eps_n slower or the fall of w_n slower, so top errs on the safe side.
+// Checked in tests/mie_start_test.cpp against exact psi_n, chi_n (long double): bounded to
+// first order over the whole series, the start's error in the efficiencies stays below a
+// tenth of the bound a 1e-16 rounding of every D_n gives (at worst 0.55%, for a real index
+// with |mx| above N + 1, where the start is that of the plain criterion), and the exact
+// relative error of D_n meets the first and third rules. (Of D_n, not of psi_n: for a
+// strongly absorbing z below |z|, chi_n is nearly a multiple of psi_n, so the start changes
+// psi_n by more than Debye's rates say but D_n hardly at all.)
+// At x = 10 this starts the chain at 40 (m = 1.7+0.03i) and 42 (2.0+0.6i) instead of 43 and
+// 45 under the plain criterion, eps_n <= 1e-17 at every n <= N + 1 on the rates of real z,
+// and 46 and 51 from downward_start. The table holds top for each arg class, ceil(|z|) (at least 1)
+// and N + 1 up to serial_max_top, or 0 where top would reach serial_max_top (sphere_large then runs
+// its lanes).
 namespace start_table {
-constexpr double sqrt_of(double v) { // v >= 1: Newton from v, quadratic convergence
-    double y = v;
-    for (int i = 0; i < 64; ++i)
-        y = 0.5 * (y + v / y);
-    return y;
-}
-constexpr double log_of(double y) { // y >= 1: ln 2 per halving, then 2 atanh((y-1)/(y+1))
-    double k = 0.0;
-    while (y > 2.0) {
-        y *= 0.5;
-        k += 1.0;
-    }
-    const double u = (y - 1.0) / (y + 1.0); // <= 1/3: u^61 < 1e-29
-    double term = u, sum = 0.0;
-    for (int j = 0; j < 30; ++j) {
-        sum += term / (2 * j + 1);
-        term *= u * u;
-    }
-    return k * 0.6931471805599453 + 2.0 * sum;
-}
-constexpr double acosh_of(double t) { return log_of(t + sqrt_of(t * t - 1.0)); }
-
+// Classes of arg z by their floors' tangents (Im z / Re z): real and weakly absorbing
+// (ices, silicates), absorbing silicates, carbon, metals.
+inline constexpr int arg_classes = 5;
+inline constexpr double arg_class_tan[arg_classes] = {0.0, 0.09, 0.28, 0.65, 1.4};
 // Entries: top, plus `unchecked_flag` where the chain cannot come near overflow without
 // rescaling: a step u_{n-1} = (2n+1) u_n - z^2 u_{n+1} grows max(|u_n|, |u_{n+1}|) by at
 // most 2n + 1 + |z|^2, so from the start's 1 the chain stays below the product of those
@@ -335,55 +332,30 @@ constexpr double acosh_of(double t) { return log_of(t + sqrt_of(t * t - 1.0)); }
 // products of two u in series_sums stay below 1e301, far from overflow.
 inline constexpr std::uint8_t unchecked_flag = 128;
 struct Table {
-    std::uint8_t top[serial_max_top + 1][serial_max_top + 1];
+    std::uint8_t top[arg_classes][serial_max_top + 1][serial_max_top + 1];
 };
-constexpr Table make() {
-    constexpr double target = 39.14394658089878;                // ln(1e17)
-    constexpr double growth_limit = 500.0 * 0.6931471805599453; // ln(2^500)
-    Table t{};
-    for (int iz = 1; iz <= serial_max_top; ++iz) {
-        double decay[serial_max_top + 1] = {};
-        for (int n = iz + 1; n <= serial_max_top; ++n)
-            decay[n] = 2.0 * acosh_of(static_cast<double>(n) / iz);
-        // ln of the growth bound over n = 1..k + 1, for each top k.
-        double growth[serial_max_top + 1] = {};
-        double sum_growth = log_of(3.0 + iz * iz); // n = 1
-        for (int k = 1; k <= serial_max_top; ++k) {
-            sum_growth += log_of(2.0 * (k + 1) + 1.0 + iz * iz);
-            growth[k] = sum_growth;
-        }
-        for (int s0 = iz; s0 <= serial_max_top; ++s0) {
-            double sum = 0.0;
-            int n = s0;
-            while (sum < target && n <= serial_max_top)
-                sum += decay[n++];
-            // At most serial_max_top - 1: the chain may add one step (an even count), which
-            // the growth bound includes (n + 1).
-            const bool serial = sum >= target && n < serial_max_top;
-            const bool unchecked = serial && growth[n] < growth_limit;
-            t.top[iz][s0] =
-                static_cast<std::uint8_t>(serial ? n + (unchecked ? unchecked_flag : 0) : 0);
-        }
-    }
-    return t;
-}
-inline constexpr Table table = make();
+// The table, built on first use (src/core/mie_start.cpp; about a millisecond).
+const Table& table();
 } // namespace start_table
 
-// top from the table, or 0 if the serial chain does not take this |z| and N; and whether
-// the chain may run without size checks (start_table::unchecked_flag).
+// top from the table, or 0 if the serial chain does not take this z and N; and whether the
+// chain may run without size checks (start_table::unchecked_flag).
 struct SerialStart {
     int top;
     bool unchecked;
 };
-inline SerialStart serial_start_entry(double abs_z, int n_terms) {
+inline SerialStart serial_start_entry(std::complex<double> z, double abs_z, int n_terms) {
     if (!(abs_z <= serial_max_top) || n_terms >= serial_max_top) return {0, false};
     const int iz = std::max(1, static_cast<int>(std::ceil(abs_z)));
-    const int entry = start_table::table.top[iz][std::max(n_terms + 1, iz)];
+    // The class whose floor lies at or below arg z (Re z > 0 for every index in range).
+    int c = 0;
+    for (int j = 1; j < start_table::arg_classes; ++j)
+        c += z.imag() >= start_table::arg_class_tan[j] * z.real() ? 1 : 0;
+    const int entry = start_table::table().top[c][iz][n_terms + 1];
     return {entry & (start_table::unchecked_flag - 1), (entry & start_table::unchecked_flag) != 0};
 }
-inline int serial_start(double abs_z, int n_terms) {
-    return serial_start_entry(abs_z, n_terms).top;
+inline int serial_start(std::complex<double> z, double abs_z, int n_terms) {
+    return serial_start_entry(z, abs_z, n_terms).top;
 }
 
 // Logarithmic derivative D_n(z) = psi_n'(z) / psi_n(z) for n = 0..n_terms into d[0..n_terms]

@@ -334,7 +334,7 @@ inline constexpr std::uint8_t unchecked_flag = 128;
 struct Table {
     std::uint8_t top[arg_classes][serial_max_top + 1][serial_max_top + 1];
 };
-// The table, built on first use (src/core/mie_start.cpp; about a millisecond).
+// The table, built on first use (src/core/mie_start.cpp; about 5 ms, once per process).
 const Table& table();
 } // namespace start_table
 

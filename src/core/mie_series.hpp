@@ -332,10 +332,11 @@ inline constexpr double arg_class_tan[arg_classes] = {0.0, 0.09, 0.28, 0.65, 1.4
 // products of two u in series_sums stay below 1e301, far from overflow.
 inline constexpr std::uint8_t unchecked_flag = 128;
 struct Table {
-    std::uint8_t top[arg_classes][serial_max_top + 1][serial_max_top + 1];
+    std::uint8_t top[serial_max_top + 1][serial_max_top + 1]; // [ceil |z|][N + 1]
 };
-// The table, built on first use (src/core/mie_start.cpp; about 5 ms, once per process).
-const Table& table();
+// The table of arg class c (0 <= c < arg_classes), built on its first use
+// (src/core/mie_start.cpp; under 1 ms each).
+const Table& table(int c);
 } // namespace start_table
 
 // top from the table, or 0 if the serial chain does not take this z and N; and whether the
@@ -351,7 +352,7 @@ inline SerialStart serial_start_entry(std::complex<double> z, double abs_z, int 
     int c = 0;
     for (int j = 1; j < start_table::arg_classes; ++j)
         c += z.imag() >= start_table::arg_class_tan[j] * z.real() ? 1 : 0;
-    const int entry = start_table::table().top[c][iz][n_terms + 1];
+    const int entry = start_table::table(c).top[iz][n_terms + 1];
     return {entry & (start_table::unchecked_flag - 1), (entry & start_table::unchecked_flag) != 0};
 }
 inline int serial_start(std::complex<double> z, double abs_z, int n_terms) {

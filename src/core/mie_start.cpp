@@ -1,77 +1,88 @@
-// The start table of the serial D_n(mx) chain (detail::serial_start_entry; the criterion and
+// The start tables of the serial D_n(mx) chain (detail::serial_start_entry; the criterion and
 // its checks are described beside it in mie_series.hpp).
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <complex>
-#include <vector>
 
 #include "mie_series.hpp"
 
 namespace holdfast::detail::start_table {
 namespace {
 
-Table make() {
+constexpr int last = serial_max_top;
+constexpr std::size_t index(int n) { return static_cast<std::size_t>(n); }
+
+// What every class shares. fall[s][n]: the fall of ln|psi_n(x)/chi_n(x)| from order 0 to n,
+// the sum of 2 acosh(k/x) over k < n, k > x, at the largest x whose series has N = s - 1
+// terms (mie_series_terms: x + 6 x^(1/3) + 2 = N); x_top[s] is the ceiling of that x.
+// growth[iz][k]: ln of the chain's growth bound over n = 1..k + 1 for |z| = iz.
+struct Shared {
+    std::array<std::array<double, last + 2>, last + 1> fall{};
+    std::array<int, last + 1> x_top{};
+    std::array<std::array<double, last + 1>, last + 1> growth{};
+};
+Shared make_shared() {
+    Shared sh;
+    for (int s = 2; s <= last; ++s) {
+        const double x_max = terms_table::crossing(s - 1.0);
+        sh.x_top[index(s)] = x_max > 0.0 ? static_cast<int>(std::ceil(x_max)) : 0;
+        auto& row = sh.fall[index(s)];
+        for (int n = 1; n <= last + 1; ++n) {
+            const double k = n - 1;
+            row[index(n)] =
+                row[index(n - 1)] + (x_max > 0.0 && k > x_max ? 2.0 * std::acosh(k / x_max) : 0.0);
+        }
+    }
+    for (int iz = 1; iz <= last; ++iz) {
+        double sum_growth = std::log(3.0 + iz * iz); // n = 1
+        for (int k = 1; k <= last; ++k) {
+            sum_growth += std::log(2.0 * (k + 1) + 1.0 + iz * iz);
+            sh.growth[index(iz)][index(k)] = sum_growth;
+        }
+    }
+    return sh;
+}
+
+Table make(int c) {
+    static const Shared shared = make_shared();
     const double target = std::log(1e17);
     const double guard = std::log(1e6);
     const double growth_limit = 500.0 * std::log(2.0); // ln(2^500)
-    constexpr int last = serial_max_top;
-    const auto index = [](int n) { return static_cast<std::size_t>(n); };
     Table t{};
-    // fall[s][n]: the fall of ln|psi_n(x)/chi_n(x)| from order 0 to n, the sum of
-    // 2 acosh(k/x) over k < n, k > x, at the largest x whose series has N = s - 1 terms
-    // (mie_series_terms: x + 6 x^(1/3) + 2 = N); x_top[s] is the ceiling of that x.
-    std::vector<std::vector<double>> fall(index(last + 1),
-                                          std::vector<double>(index(last + 2), 0.0));
-    std::vector<int> x_top(index(last + 1), 0);
-    for (int s = 2; s <= last; ++s) {
-        const double x_max = terms_table::crossing(s - 1.0);
-        x_top[index(s)] = x_max > 0.0 ? static_cast<int>(std::ceil(x_max)) : 0;
+    // z at the class floor: iz e^{i arg}, arg = atan(arg_class_tan[c]).
+    const double tan_a = arg_class_tan[c];
+    const double cos_a = 1.0 / std::sqrt(1.0 + tan_a * tan_a), sin_a = tan_a * cos_a;
+    std::array<double, last + 2> rise{};
+    for (int iz = 1; iz <= last; ++iz) {
+        // rise[n]: the rise of ln|chi_n/psi_n|(z) from order 0 to n, the sum of
+        // 2 Re acosh(k/z) over k < n. For w = k/z = a - ib, Re acosh w = acosh(h),
+        // h = (|w + 1| + |w - 1|) / 2 (w = cosh(u + iv) has |w + 1| + |w - 1| = 2 cosh u).
+        rise[0] = 0.0;
         for (int n = 1; n <= last + 1; ++n) {
-            const double k = n - 1;
-            fall[index(s)][index(n)] =
-                fall[index(s)][index(n - 1)] +
-                (x_max > 0.0 && k > x_max ? 2.0 * std::acosh(k / x_max) : 0.0);
+            const double r = static_cast<double>(n - 1) / iz;
+            const double a = r * cos_a, b = r * sin_a;
+            const double h = 0.5 * (std::sqrt((a + 1.0) * (a + 1.0) + b * b) +
+                                    std::sqrt((a - 1.0) * (a - 1.0) + b * b));
+            rise[index(n)] = rise[index(n - 1)] + (h > 1.0 ? 2.0 * std::acosh(h) : 0.0);
         }
-    }
-    std::vector<double> rise(index(last + 2)), growth(index(last + 1));
-    for (int c = 0; c < arg_classes; ++c) {
-        // z at the class floor: iz e^{i arg}, arg = atan(arg_class_tan[c]).
-        const std::complex<double> unit = std::complex<double>(1.0, arg_class_tan[c]) /
-                                          std::sqrt(1.0 + arg_class_tan[c] * arg_class_tan[c]);
-        for (int iz = 1; iz <= last; ++iz) {
-            // rise[n]: the rise of ln|chi_n/psi_n|(z) from order 0 to n, the sum of
-            // 2 Re acosh(k/z) over k < n. Re acosh w = ln|w + sqrt(w^2 - 1)| for the root of
-            // modulus >= 1 (the two roots' moduli multiply to 1), hence the absolute value.
-            const std::complex<double> inv_z = std::conj(unit) / static_cast<double>(iz);
-            rise[0] = 0.0;
-            for (int n = 1; n <= last + 1; ++n) {
-                const std::complex<double> w = static_cast<double>(n - 1) * inv_z;
-                rise[index(n)] =
-                    rise[index(n - 1)] + std::abs(std::log(std::norm(w + std::sqrt(w * w - 1.0))));
-            }
-            // ln of the growth bound over n = 1..k + 1, for each top k.
-            double sum_growth = std::log(3.0 + iz * iz); // n = 1
-            for (int k = 1; k <= last; ++k) {
-                sum_growth += std::log(2.0 * (k + 1) + 1.0 + iz * iz);
-                growth[index(k)] = sum_growth;
-            }
-            for (int s = 2; s <= last; ++s) { // s = N + 1
-                const int s1 = std::min(s, std::max(iz, x_top[index(s)]));
-                const auto& f = fall[index(s)];
-                double need = rise[index(s1)] + target;
-                for (int n = s1 + 1; n <= s; ++n)
-                    need = std::max(need, rise[index(n)] - (f[index(n)] - f[index(s1)]) + target);
-                need = std::max(need, rise[index(s)] + guard);
-                int top = s + 1;
-                while (top < last && rise[index(top)] < need)
-                    ++top;
-                // At most serial_max_top - 1: the chain may add one step (an even count),
-                // which the growth bound includes (top + 1).
-                const bool serial = rise[index(top)] >= need && top < last;
-                const bool unchecked = serial && growth[index(top)] < growth_limit;
-                t.top[c][iz][s] =
-                    static_cast<std::uint8_t>(serial ? top + (unchecked ? unchecked_flag : 0) : 0);
-            }
+        const auto& growth = shared.growth[index(iz)];
+        for (int s = 2; s <= last; ++s) { // s = N + 1
+            const int s1 = std::min(s, std::max(iz, shared.x_top[index(s)]));
+            const auto& f = shared.fall[index(s)];
+            double need = rise[index(s1)] + target;
+            for (int n = s1 + 1; n <= s; ++n)
+                need = std::max(need, rise[index(n)] - (f[index(n)] - f[index(s1)]) + target);
+            need = std::max(need, rise[index(s)] + guard);
+            // The first order from s + 1 on whose rise meets `need` (rise never falls), or last.
+            const auto from = rise.begin() + s + 1, to = rise.begin() + last;
+            const int top = static_cast<int>(std::lower_bound(from, to, need) - rise.begin());
+            // At most serial_max_top - 1: the chain may add one step (an even count), which
+            // the growth bound includes (top + 1).
+            const bool serial = rise[index(top)] >= need && top < last;
+            const bool unchecked = serial && growth[index(top)] < growth_limit;
+            t.top[iz][s] =
+                static_cast<std::uint8_t>(serial ? top + (unchecked ? unchecked_flag : 0) : 0);
         }
     }
     return t;
@@ -79,9 +90,30 @@ Table make() {
 
 } // namespace
 
-const Table& table() {
-    static const Table built = make();
-    return built;
+const Table& table(int c) {
+    static_assert(arg_classes == 5);
+    switch (c) {
+    case 0: {
+        static const Table t0 = make(0);
+        return t0;
+    }
+    case 1: {
+        static const Table t1 = make(1);
+        return t1;
+    }
+    case 2: {
+        static const Table t2 = make(2);
+        return t2;
+    }
+    case 3: {
+        static const Table t3 = make(3);
+        return t3;
+    }
+    default: {
+        static const Table t4 = make(4);
+        return t4;
+    }
+    }
 }
 
 } // namespace holdfast::detail::start_table

@@ -7,6 +7,7 @@
 #include <fstream>
 #include <sstream>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "holdfast/mie.hpp"
@@ -192,6 +193,24 @@ TEST_CASE("fast series matches a 50-digit evaluation around the serial D_n start
 // Below x = 128 (detail::moderate_x_limit) N comes from a table and sin x, cos x from
 // detail::sin_cos_moderate, above it from std::cbrt and libm: sizes on both sides, and at
 // 2.5 where the large-x kernel begins. Same 1e-9 as above.
+// Beyond the start table the serial chain runs scaled by a power of two near |m| x (mie.cpp,
+// long_serial) where its start is not far above N, and the lanes run above that. These
+// cases reach both sides of that switch (which path each takes, from the start functions
+// when this test was written): m = 4 at x = 45 (serial) and 70 (lanes); 10+10i at x = 8
+// (serial) and 45 (lanes); 1.7+0.03i at x = 300 (serial) and 700 (lanes); 1.33 at x = 1000
+// (serial) and 1500 (lanes); 0.1+3i and 0.5+0.01i serial; 10+10i at x = 1500 serial again
+// (the absorbing lanes' start lies close to N there). Same 1e-9 as above.
+TEST_CASE("fast series matches a 50-digit evaluation where the serial chain and the lanes meet",
+          "[mie][reference]") {
+    const std::pair<std::complex<double>, double> cases[] = {
+        {{4.0, 0.0}, 45.0},    {{4.0, 0.0}, 70.0},    {{10.0, 10.0}, 8.0},  {{10.0, 10.0}, 45.0},
+        {{1.7, 0.03}, 300.0},  {{1.7, 0.03}, 700.0},  {{1.33, 0.0}, 70.0},  {{1.33, 0.0}, 1000.0},
+        {{1.33, 0.0}, 1500.0}, {{0.1, 3.0}, 70.0},    {{0.5, 0.01}, 150.0}, {{2.0, 0.6}, 300.0},
+        {{2.0, 0.6}, 1000.0},  {{10.0, 10.0}, 1500.0}};
+    for (const auto& [m, x] : cases)
+        compare_with_reference(m, x);
+}
+
 TEST_CASE("fast series matches a 50-digit evaluation around x = 128 and 2.5", "[mie][reference]") {
     const std::complex<double> indices[] = {{1.7, 0.03}, {2.0, 0.6}, {1.33, 0.0}, {0.75, 0.0}};
     for (const auto m : indices)

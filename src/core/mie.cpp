@@ -198,12 +198,13 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 //
 // The kernel runs in passes over buffers instead of one loop over n, so that most of the
 // work has no dependency from one n to the next and vectorises:
-//  1. D_n(mx), n = 0..N, by the downward recurrence, cut into parallel lanes
-//     (log_derivative_lanes, from detail::lanes_start), or serially when it is short
-//     (log_derivative_serial: the bare chain only, on u_n = psi_n(mx)/(mx)^n, whose
+//  1. D_n(mx), n = 0..N, by the downward recurrence, serially where its start is not far
+//     above N (log_derivative_serial: the bare chain only, on u_n = psi_n(mx)/(mx)^n, whose
 //     recurrence has a real coefficient and so one multiply-add of latency per step; started
-//     from detail::serial_start, which is lower: only as high as keeps the start's error in
-//     the efficiencies far below rounding's, 40 and 42 instead of 46 and 51 at x = 10);
+//     from detail::serial_start where that table takes it, which is lower: only as high as
+//     keeps the start's error in the efficiencies far below rounding's, 40 and 42 instead of
+//     46 and 51 at x = 10; otherwise from detail::lanes_start, scaled, see long_serial), and
+//     cut into parallel lanes where the start lies far above N (log_derivative_lanes);
 //  2. psi_n(x), chi_n(x), n = 0..N, upward (UpwardRiccati, the two as one vector of two
 //     doubles): a serial chain, interleaved with pass 1 so that its latency is hidden; below
 //     x = 128 sin x and cos x without the libm call (detail::sin_cos_moderate) and N from a
@@ -236,6 +237,7 @@ MieEfficiencies sphere_small(cplx m, double x, int n_terms) {
 #define HOLDFAST_MIE_MULTIVERSION 0
 #endif
 #define HOLDFAST_MIE_INLINE [[gnu::always_inline]] inline
+#define HOLDFAST_MIE_LAMBDA_INLINE __attribute__((always_inline))
 
 // psi_n(x), chi_n(x) for n = 0..n_terms into psi, chi, upward (Wiscombe 1980; stable for
 // chi_n, and for psi_n as far as the series needs it when x >= small_x_limit). A serial
@@ -321,7 +323,8 @@ class UpwardRiccati {
 // rescaled by an exact power of two when it grows (checked every `rescale_every` steps in A,
 // every `width` steps in C: a step grows a vector by at most |a_n| + 1 = (2n + 1)/|mx| + 1.
 // The lanes run only where the serial chain's start (detail::serial_start) would pass
-// serial_max_steps, i.e. N near 90 or more (x above ~62) or |mx| near 60 or more;
+// serial_max_steps, i.e. N near 90 or more (x above ~62) or |mx| near 60 or more (and, of
+// those, only where the start lies far above N: long_serial);
 // with |m| >= n_min = 0.01 that bound peaks at 356 (x ~ 55, |mx| ~ 0.55), so 8 steps from below
 // `big` stay below 2e90 * 356^8 ~ 6e110, far from overflow also when squared in
 // |psi_{n-1}|^2; the serial form checks every step).
@@ -595,6 +598,20 @@ HOLDFAST_MIE_INLINE void log_derivative_lanes(cplx inv_z, int start, int n_terms
 // matrix-vector products, the reordering) outweighs their gain over the plain chain.
 constexpr int serial_max_steps = detail::serial_max_top;
 
+// Beyond the start table (start above serial_max_top) the serial chain still beats the lanes
+// while the start is not far above N: the chain costs about 2.3 ns per step (its multiply-add
+// latency, 6.4 cycles on an AMD EPYC Zen 2), while the lanes do their recurrence three times
+// over (two columns of transfer matrices, then the lanes again) with more parallelism. Fitted
+// to interleaved timings (scripts/mie-ab, Zen 2) of the two over m = 1.2+0.2i, 1.33, 1.7+0.03i,
+// 2.0+0.6i, 4.0 and x = 70..1000 (README, "The Mie series" under Performance): serial minus
+// lanes is about 1.5 top - 1.8 N - 244 ns, so the serial chain runs where
+// top <= 1.2 N + 160 (x = 100: 0.86 of the lanes' time for m = 1.7+0.03i, start 214, N = 130),
+// and never above long_serial_max_top, which bounds its list of rescales.
+constexpr int long_serial_max_top = 2048;
+HOLDFAST_MIE_INLINE bool long_serial(int top, int n_terms) {
+    return top <= long_serial_max_top && 5 * top <= 6 * n_terms + 800;
+}
+
 // The plain serial recurrence for D_n, n = 0..n_terms: the chain itself, storing its values
 // for n <= n_terms + 1, from which D_n = (n+1)/z - psi_{n+1}/psi_n is formed off the chain
 // (in series_sums; here only after a rescale in the stored range, returning true then).
@@ -604,31 +621,40 @@ constexpr int serial_max_steps = detail::serial_max_top;
 // two, with the same instructions; psi_{n+1}/psi_n = z u_{n+1}/u_n. Same start, same
 // stability (only a common factor z^n per order, which D_n does not see), and u_n grows by
 // at most (2n+1) + |z|^2 per step, which the rescaling below covers.
+// Beyond the start table (long_serial) the chain runs on v_n = u_n S^n instead, S = 2^k with
+// S <= |z| < 2S (and S >= 1/4): v_{n-1} = ((2n+1)/S) v_n - (z^2/S^2) v_{n+1} keeps the real
+// coefficient, its numbers are u_n's times exact powers of two (the same roundings), and it
+// grows by at most (2n+1)/S + |z/S|^2 <= 2(2n+1)/|z| + 4 per step (|z| >= 1/4) instead of
+// 2n + 1 + |z|^2, so that even a start thousands of orders above N needs few rescales;
+// psi_{n+1}/psi_n = (z/S) v_{n+1}/v_n. `inv_s` = 1/S (1 for the table's chains: u_n itself).
 // The chain is rescaled by `shrink` (an exact power of two) when it grows past `big`,
 // checked every 4 steps and never more than 8 steps apart: 8 steps grow it by at most
-// ((2n+1) + |z|^2)^8 <= 9409^8 ~ 6e31 here (n, |z| <= serial_max_steps = 96), so it stays
-// below 2e122, far from overflow also when squared.
+// ((2n+1) + |z|^2)^8 <= 9409^8 ~ 6e31 for the table's chains (n, |z| <= serial_max_steps =
+// 96), and by at most ((2n+1)/S + |z/S|^2)^8 <= (4 * 4097 + 16)^8 ~ 5e33 for the long ones
+// (n <= long_serial_max_top, S >= 1/4, |z/S| < 2 or, for |z| < 1/4, below 1), so it stays
+// below 1e124, far from overflow also when squared.
 // A rescale inside the stored range, after u_k is stored, leaves u_k and u_{k-1} at
 // different scales; the D_{k-1} of that pair is formed again afterwards with u_k scaled.
 // Where the start table shows that the chain cannot grow past 2^500 (checked = false: short
 // chains of moderate |z|, x = 10 among them), the size checks are left out (5% of a call
 // at x = 10: each check waits for the chain's latest value).
 template <bool checked>
-HOLDFAST_MIE_INLINE bool log_derivative_serial(cplx z, int start, int n_terms, double* d_re,
-                                               double* d_im, double* p_re, double* p_im,
-                                               const double* tn, UpwardRiccati& riccati) {
-    const double z_re = z.real();
-    const double z_im = z.imag();
-    const cplx z2 = z * z;
+HOLDFAST_MIE_INLINE bool
+log_derivative_serial(cplx z, int start, int n_terms, double* d_re, double* d_im, double* p_re,
+                      double* p_im, const double* tn, UpwardRiccati& riccati, double inv_s = 1.0) {
+    const double z_re = z.real() * inv_s;
+    const double z_im = z.imag() * inv_s;
+    const cplx z2 = z * z * (inv_s * inv_s);
     const double z2_re = z2.real();
     const double z2_im = z2.imag();
     double up_re = 0.0, up_im = 0.0, cur_re = 1.0, cur_im = 0.0;
     // An even number of steps above the stored range (one more step from above changes
     // nothing but the decay of the arbitrary start).
     int n = start + ((start - n_terms - 1) & 1);
-    double f = 2.0 * n + 1.0; // 2n + 1, exact
+    double f = (2.0 * n + 1.0) * inv_s; // 2n + 1, exact
+    const double f_step = 2.0 * inv_s;
     // One step from (u_{n+1}, u_n) to (u_n, u_{n-1}), u_{n-1} = (2n+1) u_n - z^2 u_{n+1}.
-    const auto step = [&]() {
+    const auto step = [&]() HOLDFAST_MIE_LAMBDA_INLINE {
         // The z^2 u_{n+1} part does not depend on u_n: one multiply-add in the chain.
         const double t_re = z2_im * up_im - z2_re * up_re;
         const double t_im = -(z2_re * up_im + z2_im * up_re);
@@ -638,7 +664,7 @@ HOLDFAST_MIE_INLINE bool log_derivative_serial(cplx z, int start, int n_terms, d
         up_im = cur_im;
         cur_re = lo_re;
         cur_im = lo_im;
-        f -= 2.0;
+        f -= f_step;
         --n;
     };
     // Steps go in pairs, the chain's loops in blocks of four with one size check each: no
@@ -647,15 +673,15 @@ HOLDFAST_MIE_INLINE bool log_derivative_serial(cplx z, int start, int n_terms, d
     // instructions in the chain; with the other core busy, as on the shared development
     // machine, that made a call at x = 10 no faster than before, while plain steps with the
     // lower start were 3-6% faster.)
-    const auto two_steps = [&]() {
+    const auto two_steps = [&]() HOLDFAST_MIE_LAMBDA_INLINE {
         step();
         step();
     };
-    const auto too_big = [&]() {
+    const auto too_big = [&]() HOLDFAST_MIE_LAMBDA_INLINE {
         if constexpr (checked) return std::max(std::abs(cur_re), std::abs(cur_im)) > big;
         return false;
     };
-    const auto rescale = [&]() {
+    const auto rescale = [&]() HOLDFAST_MIE_LAMBDA_INLINE {
         up_re *= shrink;
         up_im *= shrink;
         cur_re *= shrink;
@@ -677,7 +703,7 @@ HOLDFAST_MIE_INLINE bool log_derivative_serial(cplx z, int start, int n_terms, d
     // Stored range: psi_k at index k, k = n_terms + 1 down to 0, first (n_terms + 1) % 4
     // steps, then blocks of 4 with the size check after each. rescaled_at lists the k after
     // whose store the chain was rescaled.
-    int rescaled_at[serial_max_steps / 4 + 2];
+    int rescaled_at[long_serial_max_top / 4 + 2];
     int rescales = 0;
     p_re[n] = cur_re;
     p_im[n] = cur_im;
@@ -686,7 +712,7 @@ HOLDFAST_MIE_INLINE bool log_derivative_serial(cplx z, int start, int n_terms, d
         p_re[n] = cur_re;
         p_im[n] = cur_im;
     }
-    const auto two_steps_stored = [&]() {
+    const auto two_steps_stored = [&]() HOLDFAST_MIE_LAMBDA_INLINE {
         riccati.advance_two();
         two_steps();
         p_re[n + 1] = up_re;
@@ -810,12 +836,14 @@ constexpr int chunk_orders = 64;
 template <bool from_psi>
 HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, double inv_x, int n_terms,
                                      const double* d_re, const double* d_im, const double* psi,
-                                     const double* chi, const WeightTables& t, SeriesSums& s) {
+                                     const double* chi, const WeightTables& t, SeriesSums& s,
+                                     double q_scale = 1.0) {
     const cplx inv_m = 1.0 / m;
     const double m_re = m.real(), m_im = m.imag();
     const double im_re = inv_m.real(), im_im = inv_m.imag();
     // 1/(m^2 x) and m^2 x for G from u_n (from_psi).
-    const cplx m2x = m * m * x;
+    const cplx m2x = m * m * x * q_scale;
+    const double x_q = x * q_scale;
     const cplx inv_m2x = inv_m * inv_m * inv_x;
     const double c1_re = inv_m2x.real(), c1_im = inv_m2x.imag();
     const double c2_re = m2x.real(), c2_im = m2x.imag();
@@ -848,8 +876,8 @@ HOLDFAST_MIE_INLINE void series_sums(cplx m, double x, double inv_x, int n_terms
                 const LaneVec n1 = nd + 1.0;
                 const LaneVec rr = (qr * pr + qi * pi) * inv; // q = u_{n+1}/u_n
                 const LaneVec ri = (qi * pr - qr * pi) * inv;
-                store_lanes(g, n1 * c1_re + nx - x * rr);                                  // G_a
-                store_lanes(g + width, n1 * c1_im - x * ri);                               //
+                store_lanes(g, n1 * c1_re + nx - x_q * rr);                                // G_a
+                store_lanes(g + width, n1 * c1_im - x_q * ri);                             //
                 store_lanes(g + 2 * width, (nd + n1) * inv_x - (c2_re * rr - c2_im * ri)); // G_b
                 store_lanes(g + 3 * width, -(c2_re * ri + c2_im * rr));                    //
             } else {
@@ -951,14 +979,18 @@ HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_
             v[n_terms + from + k] = 1.0;
     };
     bool have_d = true;
+    double inv_s = 1.0;
     if (serial_top > 0) {
         have_d = unchecked ? log_derivative_serial<false>(z, serial_top, n_terms, d_re, d_im, p_re,
                                                           p_im, t.n, riccati)
                            : log_derivative_serial<true>(z, serial_top, n_terms, d_re, d_im, p_re,
                                                          p_im, t.n, riccati);
+    } else if (const int top = detail::lanes_start(z, abs_z, n_terms); long_serial(top, n_terms)) {
+        inv_s = std::ldexp(1.0, -std::max(-2, std::ilogb(abs_z))); // 1/S, S = 2^k <= |z| < 2S
+        have_d = log_derivative_serial<true>(z, top, n_terms, d_re, d_im, p_re, p_im, t.n, riccati,
+                                             inv_s);
     } else {
-        log_derivative_lanes(1.0 / z, detail::lanes_start(z, abs_z, n_terms), n_terms, d_re, d_im,
-                             riccati);
+        log_derivative_lanes(1.0 / z, top, n_terms, d_re, d_im, riccati);
     }
     riccati.finish();
     pad(psi, 1);
@@ -971,7 +1003,7 @@ HOLDFAST_MIE_INLINE MieEfficiencies sphere_large_kernel(cplx m, double x, int n_
     } else {
         pad(p_re, 2);
         pad(p_im, 2);
-        series_sums<true>(m, x, inv_x, n_terms, p_re, p_im, psi, chi, t, s);
+        series_sums<true>(m, x, inv_x, n_terms, p_re, p_im, psi, chi, t, s, inv_s);
     }
 
     // As detail::MieSums::finish.

@@ -254,7 +254,8 @@ inline int downward_start(double abs_z, int n_terms) {
     return (above > n_terms ? static_cast<int>(above) : n_terms) + 16;
 }
 
-// Start of the lanes' downward D_n(z) recurrence (sphere_large, mie.cpp): downward_start,
+// Start of the downward D_n(z) recurrence beyond the serial start table (sphere_large,
+// mie.cpp: the scaled serial chain or the lanes): downward_start,
 // or lower for an absorbing z whose |z| lies far above N. Miller's start error at order n is
 // |psi_{top+1}/chi_{top+1}| |chi_n/psi_n| (see serial_start below), and by Debye's forms
 // ln|chi_nu/psi_nu| grows by 2 Re acosh(nu/z) per unit of order (order nu = n + 1/2; for real
@@ -318,8 +319,8 @@ inline constexpr int serial_max_top = 96;
 // At x = 10 this starts the chain at 40 (m = 1.7+0.03i) and 42 (2.0+0.6i) instead of 43 and
 // 45 under the plain criterion, eps_n <= 1e-17 at every n <= N + 1 on the rates of real z,
 // and 46 and 51 from downward_start. The table holds top for each arg class, ceil(|z|) (at least 1)
-// and N + 1 up to serial_max_top, or 0 where top would reach serial_max_top (sphere_large then runs
-// its lanes).
+// and N + 1 up to serial_max_top, or 0 where top would reach serial_max_top (sphere_large then
+// starts from lanes_start, with the scaled serial chain or the lanes).
 namespace start_table {
 // Classes of arg z by their floors' tangents (Im z / Re z): real and weakly absorbing
 // (ices, silicates), absorbing silicates, carbon, metals.

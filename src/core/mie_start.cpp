@@ -68,7 +68,9 @@ Table make(int c) {
         }
         const auto& growth = shared.growth[index(iz)];
         for (int s = 2; s <= last; ++s) { // s = N + 1
-            const int s1 = std::min(s, std::max(iz, shared.x_top[index(s)]));
+            // Rule 1 up to max(|z|, x), or up to x alone in the damped classes.
+            const int s1 =
+                std::min(s, std::max(c >= first_damped_class ? 1 : iz, shared.x_top[index(s)]));
             const auto& f = shared.fall[index(s)];
             double need = rise[index(s1)] + target;
             for (int n = s1 + 1; n <= s; ++n)

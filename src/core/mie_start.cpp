@@ -90,32 +90,19 @@ Table make(int c) {
     return t;
 }
 
+// One function-local static per class: each is built on its own first use, thread-safely.
+template <int C> const Table& class_table() {
+    static const Table built = make(C);
+    return built;
+}
+
 } // namespace
 
 const Table& table(int c) {
     static_assert(arg_classes == 5);
-    switch (c) {
-    case 0: {
-        static const Table t0 = make(0);
-        return t0;
-    }
-    case 1: {
-        static const Table t1 = make(1);
-        return t1;
-    }
-    case 2: {
-        static const Table t2 = make(2);
-        return t2;
-    }
-    case 3: {
-        static const Table t3 = make(3);
-        return t3;
-    }
-    default: {
-        static const Table t4 = make(4);
-        return t4;
-    }
-    }
+    static constexpr const Table& (*tables[arg_classes])() = {
+        class_table<0>, class_table<1>, class_table<2>, class_table<3>, class_table<4>};
+    return tables[c]();
 }
 
 } // namespace holdfast::detail::start_table

@@ -177,10 +177,10 @@ TEST_CASE("fast series matches a 50-digit evaluation, x up to 1e3", "[mie][refer
 
 // The serial D_n(mx) chain starts where, on Debye's asymptotic rates, its start error falls
 // far below rounding's in the efficiencies (detail::serial_start; checked with exact
-// functions in mie_start_test.cpp) and hands over to the lanes above order 95. These sizes
-// put N + 1 below and above |m| x and the start on both sides of that switch (e.g. m = 1.5:
-// serial up to x ~ 40, lanes from x = 45); real indices have the slowest decay. Same 1e-9 as
-// above.
+// functions in mie_start_test.cpp) up to order 95, and from detail::lanes_start above (the
+// scaled chain or the lanes). These sizes put N + 1 below and above |m| x and the start on
+// both sides of that switch (e.g. m = 1.5: from the table up to x ~ 40, from lanes_start
+// at x = 45); real indices have the slowest decay. Same 1e-9 as above.
 TEST_CASE("fast series matches a 50-digit evaluation around the serial D_n start",
           "[mie][reference]") {
     const std::complex<double> indices[] = {{1.5, 0.0}, {4.0, 0.0}, {1.7, 0.03},

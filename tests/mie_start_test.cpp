@@ -178,8 +178,9 @@ long double start_over_rounding(lcplx m, long double x, int n_terms, int top) {
 //    1e-17 on Debye's asymptotic rates, which are slightly low near nu ~ |z|);
 //  - below 1e-5 at every order up to N + 1 (built for 1e-6), so first order holds.
 // Grid: |m| from 0.01 to 10, arg m from 0 to 1.5 including each arg class's floor, where the
-// table is tightest, x from 2.5 to 70 (the serial chain's range); cases whose start passes
-// serial_max_top are counted apart (the lanes take them).
+// table is tightest, x from 2.5 to 70 (the start table's range); cases whose start passes
+// serial_max_top are counted apart (the scaled chain or the lanes take them, from
+// lanes_start, checked below).
 TEST_CASE("the serial D_n chain's start adds far less error than rounding does", "[mie][start]") {
     using holdfast::detail::start_table::arg_class_tan;
     std::vector<double> args = {0.0, 0.0176, 0.2915, 0.8, 1.2, 1.5};
